@@ -1,0 +1,1 @@
+"""Readers and writers of robot description formats. Only this package touches XML."""

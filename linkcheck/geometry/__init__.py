@@ -1,0 +1,1 @@
+"""Geometry: closed-form primitives, meshes, URI resolution, convex-hull queries."""
