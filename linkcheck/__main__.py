@@ -1,0 +1,3 @@
+from linkcheck.cli import main
+
+raise SystemExit(main())

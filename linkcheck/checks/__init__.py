@@ -1,0 +1,1 @@
+"""The rule catalogue: pure functions of a LinkContext that yield Findings."""

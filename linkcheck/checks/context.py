@@ -1,0 +1,59 @@
+"""What a rule sees of one link: the stated block, the geometry estimate, the tree around it."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from linkcheck.geometry.solid import Solid
+from linkcheck.inertia import MassProperties
+from linkcheck.model import Joint, Link, StatedInertial
+from linkcheck.settings import Settings
+
+
+@dataclass(frozen=True)
+class LinkContext:
+    """One link (or one fixed-joint group judged as a rigid body) ready for the rules.
+
+    ``estimate`` is the link's geometry at unit density in the link frame, or None
+    with ``estimate_reason``; ``geometry_source`` says whether collision or visual
+    bodies were used. ``stated`` is the inertial block in the link frame.
+    """
+
+    path: Path
+    format: str
+    link: Link
+    settings: Settings
+    inertial: StatedInertial | None = None
+    stated: MassProperties | None = None
+    estimate: Solid | None = None
+    geometry_source: str | None = None
+    estimate_reason: str | None = None
+    parent_joint: Joint | None = None
+    subtree_mass: float = 0.0
+    #: Names of the links merged into this context when judged as one rigid body.
+    group: tuple[str, ...] = ()
+
+    @property
+    def name(self) -> str:
+        return self.link.name
+
+    @property
+    def line(self) -> int:
+        return self.link.line
+
+    @property
+    def diagonal(self) -> float:
+        """L: diagonal of the link-frame bounding box of the geometry (m)."""
+        if self.estimate is None:
+            return 0.0
+        pts = self.estimate.points
+        return float(np.linalg.norm(pts.max(axis=0) - pts.min(axis=0)))
+
+    def estimate_at_mass(self, mass: float) -> MassProperties | None:
+        """The uniform-density estimate scaled to ``mass`` kg."""
+        if self.estimate is None or self.estimate.volume <= 0:
+            return None
+        return self.estimate.props.with_mass(mass)
