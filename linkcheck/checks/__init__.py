@@ -1,1 +1,27 @@
-"""The rule catalogue: pure functions of a LinkContext that yield Findings."""
+"""The rule catalogue: pure functions of a LinkContext that yield Findings.
+
+``evaluate`` runs every rule on one link and applies the precedence of
+diagnoses over generic mismatches. Reporters, selection and severity
+overrides live above this package.
+"""
+
+from __future__ import annotations
+
+from linkcheck.checks import compare, physical, tree
+from linkcheck.checks.context import LinkContext
+from linkcheck.model import Finding
+
+ALL_RULES = physical.RULES + compare.RULES + tree.RULES
+
+#: Rules that compare with the estimate, skipped when there is none.
+ESTIMATE_RULES = frozenset(r.__name__.replace("_", "-") for r in compare.RULES) | {"inertia-exceeds-geometry"}
+
+
+def evaluate(ctx: LinkContext) -> list[Finding]:
+    """Every finding of one link, after precedence."""
+    found = [f for rule in ALL_RULES for f in rule(ctx)]
+    names = {f.rule for f in found}
+    replaced = {r for name in names for r in compare.PRECEDENCE.get(name, ())}
+    if ctx.inertial is not None and ctx.inertial.missing:
+        replaced.add("inertia-placeholder")  # the defaults filled in are reported as inertial-incomplete
+    return [f for f in found if f.rule not in replaced]

@@ -1,0 +1,105 @@
+"""A link's uniform-density estimate: its bodies combined into one solid in the link frame.
+
+Collision bodies first, visual ones when a link has none (or when the
+collision proxy is far too small for the stated mass); the report says which.
+Mesh loading is imported only when a link has a mesh.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, replace
+from typing import Any
+
+from linkcheck.geometry.solid import Solid, primitive_solid, union
+from linkcheck.model import NON_SOLID_SHAPES, Body, Finding, Link
+from linkcheck.settings import Settings
+
+
+@dataclass(frozen=True)
+class LinkEstimate:
+    solid: Solid | None
+    source: str | None = None  # "collision" | "visual"
+    reason: str | None = None  # why there is no solid
+    findings: tuple[Finding, ...] = ()
+
+
+@dataclass
+class Estimator:
+    """Estimates links, remembering each mesh once per run (a robot reuses its meshes)."""
+
+    settings: Settings
+    search: Any = None  # geometry.resolve.SearchPaths
+    cache: Any = None  # geometry.cache.MeshCache | None
+    _meshes: dict[tuple, Any] = field(default_factory=dict)
+
+    def link(self, link: Link, stated_mass: float | None) -> LinkEstimate:
+        first, second = ("visual", "collision") if self.settings.geometry == "visual" else ("collision", "visual")
+        role = first if _solid_bodies(link, first) else second
+        result = self._estimate(link, role)
+        if role == "collision" and result.solid is not None and stated_mass and _solid_bodies(link, "visual"):
+            result = self._maybe_prefer_visual(link, result, stated_mass)
+        return result
+
+    def _maybe_prefer_visual(self, link: Link, collision: LinkEstimate, mass: float) -> LinkEstimate:
+        """A collision proxy far smaller than the visual geometry gives absurd densities: use the visual."""
+        if mass / collision.solid.volume <= self.settings.density_max:  # type: ignore[union-attr]
+            return collision
+        visual = self._estimate(link, "visual")
+        if visual.solid is None or visual.solid.volume < 10 * collision.solid.volume:  # type: ignore[union-attr]
+            return collision
+        if not self.settings.density_min <= mass / visual.solid.volume <= self.settings.density_max:
+            return collision
+        ratio = visual.solid.volume / collision.solid.volume  # type: ignore[union-attr]
+        note = Finding(
+            "geometry-note",
+            "info",
+            f"link '{link.name}': the collision geometry is {ratio:.0f}x smaller in volume than the visual "
+            "geometry, too small for the stated mass: the estimate uses the visual geometry",
+            link.name,
+            link.line,
+        )
+        return replace(visual, findings=visual.findings + (note,))
+
+    def _estimate(self, link: Link, role: str) -> LinkEstimate:
+        solids: list[Solid] = []
+        notes: list[Finding] = []
+        for body in link.bodies_of(role):
+            if body.shape is None:
+                return LinkEstimate(None, role, f"a {role} geometry is malformed", tuple(notes))
+            if body.shape.kind in NON_SOLID_SHAPES:
+                notes.append(Finding("geometry-note", "info",
+                                     f"link '{link.name}': {body.shape.kind} {role} carries no volume: skipped",
+                                     link.name, body.line))
+                continue
+            solid, found, why = self._body_solid(body)
+            notes.extend(replace(f, link=link.name, line=body.line,
+                                 message=f.message if f.message.startswith("link '") else f"link '{link.name}': {f.message}")
+                         for f in found)
+            if solid is None:
+                return LinkEstimate(None, role, why, tuple(notes))
+            solids.append(solid.transformed(body.pose))
+        if not solids:
+            return LinkEstimate(None, None, "the link has no geometry with volume", tuple(notes))
+        return LinkEstimate(union(solids), role, None, tuple(notes))
+
+    def _body_solid(self, body: Body) -> tuple[Solid | None, list[Finding], str | None]:
+        shape = body.shape
+        assert shape is not None
+        if shape.kind != "mesh":
+            try:
+                return primitive_solid(shape), [], None
+            except ValueError as exc:
+                return None, [Finding("value-malformed", "error", f"{shape.kind} {exc}")], f"its {shape.kind} is malformed"
+        key = (shape.uri, str(shape.base_dir), tuple(shape.scale), shape.submesh, shape.center)
+        if key not in self._meshes:
+            from linkcheck.geometry.mesh import mesh_estimate
+
+            self._meshes[key] = mesh_estimate(shape.uri or "", shape.base_dir, shape.scale, self.search, self.cache)
+        result = self._meshes[key]
+        if result.solid is None or not result.trusted:
+            return None, list(result.findings), f"mesh '{shape.uri}' cannot be used for the estimate"
+        return result.solid, list(result.findings), None
+
+
+def _solid_bodies(link: Link, role: str) -> list[Body]:
+    return [b for b in link.bodies_of(role) if b.shape is None or b.shape.kind not in NON_SOLID_SHAPES]
