@@ -1,0 +1,256 @@
+"""Files -> documents -> link contexts -> findings -> fixes. The only place that sequences the layers."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, replace
+from fnmatch import fnmatch
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from linkcheck.checks import evaluate
+from linkcheck.checks.context import LinkContext
+from linkcheck.estimate import Estimator, LinkEstimate
+from linkcheck.geometry.solid import union
+from linkcheck.inertia import MassProperties, combine
+from linkcheck.model import Document, Finding, Joint, Link, Pose
+from linkcheck.settings import Settings
+
+DESCRIPTION_SUFFIXES = (".urdf", ".sdf", ".world")
+#: Per-link rules a fixed-joint group can clear: simulators lump the group into one body.
+GROUP_RULES = frozenset({"density-implausible", "com-offset", "com-outside-geometry", "inertia-mismatch"})
+
+
+@dataclass
+class FileResult:
+    """Everything known about one file after a check (and a fix, if asked)."""
+
+    path: Path
+    document: Document
+    contexts: list[LinkContext] = field(default_factory=list)
+    findings: list[Finding] = field(default_factory=list)
+    new_data: bytes | None = None  # the fixed file's bytes, when a fix changed something
+    fix_lines: list[str] = field(default_factory=list)  # one summary line per changed link
+    refusals: list[str] = field(default_factory=list)
+    estimated: bool = False  # some written value came from the uniform-density estimate
+
+    @property
+    def changed(self) -> bool:
+        return self.new_data is not None and self.new_data != self.document.data
+
+
+def read_document(path: Path, data: bytes | None = None, search: Any = None) -> Document:
+    """Read a URDF or SDFormat file by its extension, or by its root element when unclear."""
+    if data is None:
+        data = path.read_bytes()
+    kind = _kind(path, data)
+    if kind == "sdf":
+        from linkcheck.formats.sdf import read_sdf
+
+        return read_sdf(path, data, search)
+    from linkcheck.formats.urdf import read_urdf
+
+    return read_urdf(path, data)
+
+
+def _kind(path: Path, data: bytes) -> str:
+    suffix = path.suffix.lower()
+    if suffix in (".sdf", ".world"):
+        return "sdf"
+    if suffix in (".urdf", ".xacro"):
+        return "urdf"
+    head = data[:4096]
+    return "sdf" if b"<sdf" in head and b"<robot" not in head else "urdf"
+
+
+def check_document(doc: Document, settings: Settings, estimator: Estimator | None = None) -> tuple[list[LinkContext], list[Finding]]:
+    """Contexts and findings of one document (no selection or suppression applied yet)."""
+    if doc.fatal:
+        return [], list(doc.findings)
+    estimator = estimator or Estimator(settings)
+    findings = list(doc.findings)
+    parents = {j.child: j for j in doc.joints}
+    children: dict[str, list[Joint]] = {}
+    for j in doc.joints:
+        children.setdefault(j.parent, []).append(j)
+    stated = {k.name: (k.inertial.mass_properties() if k.inertial is not None else None) for k in doc.links}
+    masses = {name: (s.mass if s is not None and np.isfinite(s.mass) and s.mass > 0 else 0.0) for name, s in stated.items()}
+
+    contexts: list[LinkContext] = []
+    estimates: dict[str, LinkEstimate] = {}
+    for link in doc.links:
+        s = stated[link.name]
+        est = estimator.link(link, s.mass if s is not None else None)
+        estimates[link.name] = est
+        findings.extend(est.findings)
+        ctx = LinkContext(
+            path=doc.path,
+            format=doc.format,
+            link=link,
+            settings=settings,
+            inertial=link.inertial,
+            stated=s,
+            estimate=est.solid,
+            geometry_source=est.source,
+            estimate_reason=est.reason,
+            parent_joint=parents.get(link.name),
+            subtree_mass=_subtree_mass(link.name, masses, children),
+        )
+        contexts.append(ctx)
+        found = evaluate(ctx)
+        if s is not None and est.solid is None and s.mass > 0 and (link.bodies or est.reason):
+            found.append(Finding("estimate-unavailable", "info",
+                                 f"link '{link.name}': {est.reason or 'no usable geometry'}: comparisons with the geometry skipped",
+                                 link.name, link.line))
+        findings.extend(found)
+    findings = _clear_by_groups(doc, contexts, findings, parents, settings)
+    return contexts, findings
+
+
+def _subtree_mass(name: str, masses: dict[str, float], children: dict[str, list[Joint]], seen: set[str] | None = None) -> float:
+    seen = seen if seen is not None else set()
+    if name in seen:
+        return 0.0
+    seen.add(name)
+    return masses.get(name, 0.0) + sum(_subtree_mass(j.child, masses, children, seen) for j in children.get(name, []))
+
+
+def _clear_by_groups(doc: Document, contexts: list[LinkContext], findings: list[Finding],
+                     parents: dict[str, Joint], settings: Settings) -> list[Finding]:
+    """Judge links joined by fixed joints also as one rigid body; drop per-link blame the group clears."""
+    by_name = {c.name: c for c in contexts}
+    groups: dict[str, list[tuple[str, Pose]]] = {}
+    for ctx in contexts:
+        root, pose = ctx.name, Pose()
+        seen = {root}
+        while root in parents and not parents[root].movable and parents[root].parent in by_name and parents[root].parent not in seen:
+            pose = parents[root].pose.compose(pose)
+            root = parents[root].parent
+            seen.add(root)
+        groups.setdefault(root, []).append((ctx.name, pose))
+    cleared: set[tuple[str, str]] = set()
+    for root, members in groups.items():
+        if len(members) < 2:
+            continue
+        group = _group_context(by_name[root], [(by_name[n], p) for n, p in members])
+        if group is None:
+            continue
+        still = {f.rule for f in evaluate(group)}
+        cleared |= {(n, rule) for n, _ in members for rule in GROUP_RULES - still}
+    return [f for f in findings if (f.link, f.rule) not in cleared]
+
+
+def _group_context(root: LinkContext, members: list[tuple[LinkContext, Pose]]) -> LinkContext | None:
+    stated = [m.stated.transformed(p.rotation, p.translation) for m, p in members
+              if m.stated is not None and m.stated.mass > 0 and np.isfinite(m.stated.mass)]
+    solids = [m.estimate.transformed(p) for m, p in members if m.estimate is not None]
+    if not stated or not solids:
+        return None
+    return replace(root, stated=combine(stated), estimate=union(solids), inertial=None,
+                   group=tuple(m.name for m, _ in members))
+
+
+def select(findings: list[Finding], settings: Settings, links: list[Link] | None = None) -> list[Finding]:
+    """Apply --select/--ignore, per-link ignores and severity overrides."""
+    out = []
+    overrides = settings.links
+    for f in findings:
+        if settings.select and f.rule not in settings.select and f.rule != "xml-malformed":
+            continue
+        if f.rule in settings.ignore:
+            continue
+        if f.link is not None and any(f.rule in o.ignore for o in overrides if fnmatch(f.link, o.pattern)):
+            continue
+        if f.rule in settings.severity:
+            f = replace(f, severity=settings.severity[f.rule])  # type: ignore[arg-type]
+        out.append(f)
+    return out
+
+
+
+
+@dataclass(frozen=True)
+class RunOptions:
+    """What a run does beyond checking. ``fix`` is None for a check-only run."""
+
+    fix: Any = None  # linkcheck.fix.FixOptions
+    search: Any = None  # geometry.resolve.SearchPaths
+    cache: Any = None  # geometry.cache.MeshCache
+
+
+def run_file(path: Path, settings: Settings, options: RunOptions = RunOptions(), data: bytes | None = None) -> FileResult:
+    """Check one file and, with fix options, plan and splice the corrected blocks (nothing is written here)."""
+    doc = read_document(path, data, options.search)
+    estimator = Estimator(settings, options.search, options.cache)
+    contexts, raw = check_document(doc, settings, estimator)
+    result = FileResult(path, doc, contexts, _visible(raw, settings, doc))
+    if options.fix is None or doc.fatal:
+        return result
+    _plan_and_splice(result, settings, options, estimator)
+    return result
+
+
+def _visible(findings: list[Finding], settings: Settings, doc: Document) -> list[Finding]:
+    from linkcheck.suppress import apply_suppressions
+
+    return apply_suppressions(select(findings, settings, doc.links), doc.links)
+
+
+def _plan_and_splice(result: FileResult, settings: Settings, options: RunOptions, estimator: Estimator) -> None:
+    from linkcheck.fix import FixPlan, plan_fix
+
+    doc = result.document
+    by_link: dict[str, list[Finding]] = {}
+    for f in result.findings:
+        if f.link is not None:
+            by_link.setdefault(f.link, []).append(f)
+    plans: dict[str, FixPlan] = {}
+    for ctx in result.contexts:
+        outcome = plan_fix(ctx, by_link.get(ctx.name, []), options.fix)
+        if isinstance(outcome, FixPlan):
+            plans[ctx.name] = outcome
+        elif outcome is not None:
+            result.refusals.append(f"{doc.path}:{ctx.line}: link '{outcome.link}': {outcome.rule} not fixed: {outcome.reason}")
+    if not plans:
+        return
+    if not doc.writable:
+        result.refusals.append(f"{doc.path}: not rewritten: the file is not UTF-8 or holds expressions linkcheck cannot evaluate")
+        return
+    new = _rewrite(doc, {name: p.edit for name, p in plans.items()})
+    if new == doc.data:
+        return
+    again = read_document(doc.path, new, options.search)
+    if again.fatal or [k.name for k in again.links] != [k.name for k in doc.links] or \
+            [(j.name, j.parent, j.child) for j in again.joints] != [(j.name, j.parent, j.child) for j in doc.joints]:
+        result.refusals.append(f"{doc.path}: not rewritten: the corrected file did not re-read with the same links and joints")
+        return
+    result.new_data = new
+    result.fix_lines = [p.summary for p in plans.values()]
+    result.estimated = any(p.estimated for p in plans.values())
+    contexts, raw = check_document(again, settings, estimator)
+    result.contexts, result.findings = contexts, _visible(raw, settings, again)
+
+
+def _rewrite(doc: Document, edits: dict[str, Any]) -> bytes:
+    if doc.format == "sdf":
+        from linkcheck.formats.sdf import rewrite_sdf
+
+        return rewrite_sdf(doc, edits)
+    from linkcheck.formats.urdf import rewrite_urdf
+
+    return rewrite_urdf(doc, edits)
+
+
+def expand_paths(paths: list[Path]) -> list[Path]:
+    """Files as given; folders searched for descriptions (sorted, hidden folders skipped)."""
+    out: list[Path] = []
+    for p in paths:
+        if p.is_dir():
+            found = [f for f in p.rglob("*") if f.is_file() and f.suffix.lower() in DESCRIPTION_SUFFIXES
+                     and not any(part.startswith(".") for part in f.relative_to(p).parts)]
+            out.extend(sorted(found))
+        else:
+            out.append(p)
+    seen: set[Path] = set()
+    return [p for p in out if not (p in seen or seen.add(p))]  # type: ignore[func-returns-value]

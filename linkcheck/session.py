@@ -1,0 +1,87 @@
+"""One run over many files: settings per file, shared mesh search and cache, mesh -> users."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from linkcheck.errors import LinkcheckError
+from linkcheck.runner import FileResult, RunOptions, expand_paths, run_file
+from linkcheck.settings import Settings
+
+
+@dataclass
+class Session:
+    cli: dict[str, Any] = field(default_factory=dict)
+    config: Path | None = None
+    no_cache: bool = False
+    fix: Any = None
+    _settings: dict[Path, Settings] = field(default_factory=dict)
+    _cache: Any = None
+
+    def settings_for(self, path: Path) -> Settings:
+        folder = path.resolve().parent
+        if folder not in self._settings:
+            from linkcheck.config import load_settings
+
+            self._settings[folder] = load_settings(folder, self.config, self.cli)
+        return self._settings[folder]
+
+    def fail_on(self, cli_value: str | None) -> str:
+        if cli_value:
+            return cli_value
+        levels = {s.fail_on for s in self._settings.values()}
+        return levels.pop() if len(levels) == 1 else "warning"
+
+    def search_for(self, settings: Settings, near: Path) -> Any:
+        from linkcheck.geometry.resolve import SearchPaths
+
+        return SearchPaths(package_paths={k: Path(v) for k, v in settings.package_paths.items()},
+                           model_paths=tuple(Path(p) for p in settings.model_paths))
+
+    def cache(self) -> Any:
+        if self.no_cache:
+            return None
+        if self._cache is None:
+            from linkcheck.geometry.cache import MeshCache
+
+            self._cache = MeshCache()
+        return self._cache
+
+    def run(self, paths: list[Path], mesh_suffixes: tuple[str, ...]) -> tuple[list[FileResult], list[str]]:
+        """Check every description named or found; return results and one-line input problems."""
+        problems: list[str] = []
+        files: list[Path] = []
+        for path in expand_paths(paths):
+            if not path.exists():
+                problems.append(f"{path}: no such file or folder")
+            elif path.suffix.lower() in mesh_suffixes:
+                files.extend(self._users_of(path))
+            else:
+                files.append(path)
+        results = []
+        seen: set[Path] = set()
+        for path in files:
+            key = path.resolve()
+            if key in seen:
+                continue
+            seen.add(key)
+            try:
+                settings = self.settings_for(path)
+                options = RunOptions(fix=self.fix, search=self.search_for(settings, path), cache=self.cache())
+                results.append(run_file(path, settings, options))
+            except OSError as exc:
+                problems.append(f"{path}: cannot read: {exc.strerror or exc}")
+        return results, problems
+
+    def _users_of(self, mesh: Path) -> list[Path]:
+        """Descriptions in the mesh's repository that use it (none: the mesh is ignored silently)."""
+        from linkcheck.repo_scan import descriptions_using, find_repo_root
+
+        settings = self.settings_for(mesh)
+        root = find_repo_root(mesh)
+        try:
+            return descriptions_using(mesh, root, self.search_for(settings, mesh))
+        except OSError as exc:
+            raise LinkcheckError(f"{mesh}: cannot scan the repository for its users: {exc}") from exc
