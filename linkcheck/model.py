@@ -170,6 +170,9 @@ class Document:
     fatal: bool = False
     #: Whether the writer may rewrite this file (UTF-8/ASCII, not xacro-generated values...).
     writable: bool = True
+    #: SDF <include>d models, each read from its own file: for the whole-model picture only
+    #: (tree, total mass). Read-only: their links are not this file's to check or fix.
+    included: list[Document] = field(default_factory=list)
 
     def link(self, name: str) -> Link | None:
         return next((k for k in self.links if k.name == name), None)
