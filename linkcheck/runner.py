@@ -138,6 +138,7 @@ def _clear_by_groups(doc: Document, contexts: list[LinkContext], findings: list[
             continue
         still = {f.rule for f in evaluate(group)}
         cleared |= {(n, rule) for n, _ in members for rule in GROUP_RULES - still}
+        cleared |= {(n, "estimate-unavailable") for n, _ in members}  # judged through the group
     return [f for f in findings if (f.link, f.rule) not in cleared]
 
 

@@ -13,15 +13,14 @@ from linkcheck.model import Finding
 
 ALL_RULES = physical.RULES + compare.RULES + tree.RULES
 
-#: Rules that compare with the estimate, skipped when there is none.
-ESTIMATE_RULES = frozenset(r.__name__.replace("_", "-") for r in compare.RULES) | {"inertia-exceeds-geometry"}
-
 
 def evaluate(ctx: LinkContext) -> list[Finding]:
     """Every finding of one link, after precedence."""
     found = [f for rule in ALL_RULES for f in rule(ctx)]
     names = {f.rule for f in found}
     replaced = {r for name in names for r in compare.PRECEDENCE.get(name, ())}
+    if any(f.rule == "density-implausible" and f.data.get("tensor_fits_mass") for f in found):
+        replaced |= {"inertia-units-suspect", "inertia-mismatch"}  # the mass is off, not the tensor
     if ctx.inertial is not None and ctx.inertial.missing:
         replaced.add("inertia-placeholder")  # the defaults filled in are reported as inertial-incomplete
     return [f for f in found if f.rule not in replaced]

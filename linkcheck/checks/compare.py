@@ -19,6 +19,9 @@ from linkcheck.model import Finding
 
 #: rule -> the rules it replaces on the same link.
 PRECEDENCE = {
+    "inertia-not-positive-definite": ("inertia-mismatch",),
+    "inertia-triangle-inequality": ("inertia-mismatch",),
+    "inertia-exceeds-geometry": ("inertia-mismatch",),
     "inertia-placeholder": ("inertia-mismatch",),
     "inertia-units-suspect": ("inertia-mismatch",),
     "inertia-product-sign": ("inertia-mismatch",),
@@ -229,6 +232,10 @@ def density_implausible(ctx: LinkContext) -> Iterator[Finding]:
     if lo <= rho <= hi:
         return
     reason = _density_reason(rho, mass, ctx.diagonal, lo, hi)
+    fits = _tensor_fits_mass(ctx, rho, lo, hi)
+    if fits is not None:
+        unit = {-3: "grams given as kilograms", 3: "tonnes given as kilograms"}.get(round(np.log10(fits / mass)), "the wrong unit")
+        reason = f"the stated tensor fits a mass of {words.kg(fits)}: the mass looks like {unit}"
     yield _finding(
         ctx,
         "density-implausible",
@@ -237,7 +244,17 @@ def density_implausible(ctx: LinkContext) -> Iterator[Finding]:
         f"{words.num(rho)} kg/m³ (plausible: {words.num(lo)}–{words.num(hi)}): {reason}",
         fixable=False,
         density=rho,
+        tensor_fits_mass=fits,
     )
+
+
+def _tensor_fits_mass(ctx: LinkContext, rho: float, lo: float, hi: float) -> float | None:
+    """A mass off by a power of 1000 while the tensor is right: the mass, not the tensor, is wrong."""
+    est = _estimated(ctx)
+    for power in UNIT_POWERS:
+        if lo <= rho * 10.0**power <= hi and _rel(ctx.stated.inertia, est * 10.0**power) <= ctx.settings.units_tolerance:  # type: ignore[union-attr]
+            return ctx.stated.mass * 10.0**power  # type: ignore[union-attr]
+    return None
 
 
 def _density_reason(rho: float, mass: float, size: float, lo: float, hi: float) -> str:
