@@ -211,9 +211,9 @@ class _Reader:
             except _Bad:
                 state = "malformed"
         bodies = [self.body(kid, _local(kid)) for kid in _elements(el) if _local(kid) in ("collision", "visual")]
-        xacro_inside = any(_is_xacro(e) for e in el.iter() if isinstance(e.tag, str))
-        if xacro_inside and not self.expression:
-            self.expression_found(el, "content", "xacro:...")
+        xacro_el = next((e for e in el.iter() if _is_xacro(e)), None)
+        if xacro_el is not None and not self.expression:
+            self.expression_found(xacro_el, "content", f"<xacro:{_local(xacro_el)}>")
         link = Link(self.link, line, stated, state, bodies)  # type: ignore[arg-type]
         link.suppressions = self.suppressions(el)
         writable = self.xml.encoding_ok and not self.expression
