@@ -1,0 +1,125 @@
+"""The command line as a user runs it: a subprocess, exit codes, JSON shape, hostile input."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[1]
+DEMO = ROOT / "fixtures" / "demo"
+
+
+def run(*args: str, cwd: Path = ROOT) -> subprocess.CompletedProcess:
+    return subprocess.run([sys.executable, "-m", "linkcheck", *args], cwd=cwd, capture_output=True, text=True, timeout=120)
+
+
+def test_clean_model_exits_0():
+    p = run(str(DEMO / "harvester_clean.urdf"))
+    assert p.returncode == 0, p.stdout + p.stderr
+    assert "0 errors, 0 warnings, 0 infos" in p.stdout
+
+
+def test_demo_explains_every_planted_defect_and_nothing_else():
+    p = run("--format", "json", str(DEMO / "harvester.urdf"))
+    assert p.returncode == 1
+    found = {(f["link"], f["rule"]) for f in json.loads(p.stdout)["files"][0]["findings"]}
+    # the defects planted by tools/make_demo.py, one per link
+    assert found == {
+        ("lift_column", "inertia-placeholder"),
+        ("shoulder", "inertia-wrong-reference-point"),
+        ("upper_arm", "inertia-triangle-inequality"),
+        ("forearm", "inertia-units-suspect"),
+        ("forearm", "inertia-exceeds-geometry"),  # 1e6 x too large is also physically impossible
+        ("wrist", "com-outside-geometry"),
+        ("camera_mount", "inertial-missing"),
+        ("gripper_palm", "density-implausible"),
+        ("tool_flange", "massless-moving-link"),
+    }
+
+
+def test_json_matches_the_contract():
+    p = run("--format", "json", str(DEMO))
+    report = json.loads(p.stdout)
+    assert report["version"] == 1
+    assert set(report["summary"]) == {"files", "links", "errors", "warnings", "infos", "changed"}
+    entry = report["files"][0]
+    assert set(entry) == {"path", "format", "links", "findings"} and entry["format"] == "urdf"
+    base = next(k for k in entry["links"] if k["name"] == "base_cart")
+    assert set(base) == {"name", "line", "stated", "computed"}
+    assert set(base["computed"]) == {"volume", "density", "mass", "com", "inertia", "geometry"}
+    assert base["computed"]["geometry"] == "collision"
+    # box 0.8 x 0.5 x 0.25 m: volume 0.1 m^3, 40 kg -> 400 kg/m^3 (arithmetic)
+    assert base["computed"]["volume"] == pytest.approx(0.1)
+    assert base["computed"]["density"] == pytest.approx(400.0)
+    assert len(base["stated"]["inertia"]) == 3 and all(len(r) == 3 for r in base["stated"]["inertia"])
+    frame = next(k for k in entry["links"] if k["name"] == "tool_flange")
+    assert frame["stated"] is None and frame["computed"] is None
+    f = entry["findings"][0]
+    assert set(f) == {"rule", "severity", "link", "line", "message", "fixable"}
+
+
+def test_fail_on_levels():
+    bad = str(DEMO / "harvester.urdf")
+    assert run("--fail-on", "never", bad).returncode == 0
+    assert run("--fail-on", "error", bad).returncode == 1
+    assert run("--select", "com-offset", bad).returncode == 0
+
+
+def test_usage_errors_exit_2_with_one_line():
+    for args in (["--select", "no-such-rule", str(DEMO)], [str(DEMO / "missing.urdf")], []):
+        p = run(*args)
+        assert p.returncode == 2
+        assert "Traceback" not in p.stderr
+        assert p.stderr.strip()
+
+
+def test_malformed_xml_exits_2_and_json_still_prints(tmp_path):
+    bad = tmp_path / "broken.urdf"
+    bad.write_text('<robot name="r">\n  <link name="a">\n</robot>\n')
+    p = run("--format", "json", str(bad))
+    assert p.returncode == 2 and "Traceback" not in p.stderr
+    assert "broken.urdf" in p.stderr and len(p.stderr.strip().splitlines()) == 1
+    assert json.loads(p.stdout)["files"][0]["findings"][0]["rule"] == "xml-malformed"
+
+
+def test_hostile_files_are_refused_without_leaking(tmp_path):
+    secret = tmp_path / "secret.txt"
+    secret.write_text("TOPSECRET-4242")
+    xxe = tmp_path / "xxe.urdf"
+    xxe.write_text(f'<?xml version="1.0"?>\n<!DOCTYPE robot [<!ENTITY s SYSTEM "file://{secret}">]>\n'
+                   '<robot name="r"><link name="&s;"/></robot>\n')
+    bomb = tmp_path / "bomb.urdf"
+    ents = "".join(f'<!ENTITY e{i} "{"&e%d;" % (i - 1) * 10}">' for i in range(1, 10))
+    bomb.write_text(f'<?xml version="1.0"?>\n<!DOCTYPE robot [<!ENTITY e0 "ha">{ents}]>\n<robot name="&e9;"/>\n')
+    for f in (xxe, bomb):
+        p = run("--format", "json", str(f))
+        assert p.returncode == 2
+        assert "TOPSECRET" not in p.stdout + p.stderr and "Traceback" not in p.stderr
+        assert json.loads(p.stdout)["files"][0]["findings"][0]["rule"] == "xml-malformed"
+
+
+def test_malformed_number_is_a_finding_not_a_crash(tmp_path):
+    f = tmp_path / "comma.urdf"
+    f.write_text('<robot name="r">\n<link name="a">\n<inertial><mass value="1,5"/>'
+                 '<inertia ixx="1" ixy="0" ixz="0" iyy="1" iyz="0" izz="1"/></inertial>\n</link>\n</robot>\n')
+    p = run(str(f))
+    assert p.returncode == 1 and "Traceback" not in p.stderr
+    assert "value-malformed" in p.stdout and "comma.urdf:3" in p.stdout
+
+
+def test_text_report_is_plain_when_piped():
+    p = run(str(DEMO / "harvester.urdf"))
+    assert "\x1b[" not in p.stdout
+    assert "fixtures/demo/harvester.urdf:" in p.stdout and "inertia-placeholder" in p.stdout
+
+
+def test_python_api_returns_the_json_entry():
+    import linkcheck
+
+    entry = linkcheck.check_file(DEMO / "harvester.urdf")
+    assert entry["format"] == "urdf"
+    assert {f["rule"] for f in entry["findings"]} >= {"inertia-placeholder", "inertial-missing"}
