@@ -115,6 +115,12 @@ def plan_fix(ctx: LinkContext, findings: list[Finding], options: FixOptions) -> 
     for rule in ("value-malformed", "mesh-unavailable"):
         if rule in rules:
             return Refusal(ctx.name, active[0], _never_reason(ctx, rule, mine))
+    if len(ctx.group) > 1:
+        return Refusal(ctx.name, active[0], "judged as one rigid body with " + ", ".join(ctx.group)
+                       + "; a fix rewrites single links only")
+    if ctx.inertial is not None and ctx.inertial.auto:
+        return Refusal(ctx.name, active[0], 'the block is auto="true": the simulator computes it from the '
+                       "collisions, so written values would be ignored")
 
     if any(r in active for r in FILL_RULES + MASS_RULES) or ctx.stated is None:
         return _plan_with_mass_source(ctx, mine, active, options)
@@ -171,13 +177,18 @@ def _plan_stated(ctx: LinkContext, findings: list[Finding], active: tuple[str, .
             fallback_why = f"the {why} tensor {problem}"
         else:
             fallback_why = why
-    est = ctx.estimate_at_mass(stated.mass)
+    mass, mass_note = stated.mass, ""
+    if ctx.inertial is not None and "mass" in ctx.inertial.missing:
+        source = mass_source(ctx, options)  # the 1 kg the format filled in is nobody's measurement
+        if source is not None:
+            mass, mass_note = source.mass, f"mass from {source.origin}; "
+    est = ctx.estimate_at_mass(mass)
     if est is None:
         return _no_estimate(ctx, active[0])
     problem = validity_problem(est, ctx)
     if problem is not None:
         return Refusal(ctx.name, active[0], f"the geometry estimate {problem}; give the inertial block by hand")
-    note = ESTIMATE_NOTE + (f"; {fallback_why}" if fallback_why else "")
+    note = mass_note + ESTIMATE_NOTE + (f"; {fallback_why}" if fallback_why else "")
     return _make_plan(ctx, est, tuple(active), estimated=True, note=note, options=options)
 
 
@@ -250,6 +261,9 @@ def _plan_with_mass_source(
 ) -> FixPlan | Refusal:
     rule = next((r for r in active if r in FILL_RULES + MASS_RULES), active[0])
     if ctx.estimate is None or ctx.estimate.volume <= 0:
+        if not any(b.shape is not None for b in ctx.link.bodies):
+            return Refusal(ctx.name, rule, f"link '{ctx.name}' has no geometry to estimate an inertia from; "
+                           "write its inertial block by hand, give it collision geometry, or make the joint fixed")
         return _no_estimate(ctx, rule)
     source = mass_source(ctx, options)
     if source is None:

@@ -321,6 +321,57 @@ def test_units_without_power_falls_back_to_estimate() -> None:
     assert p.estimated and "no power of ten" in p.summary
 
 
+def test_group_context_and_auto_block_refuse() -> None:
+    from dataclasses import replace
+
+    ctx = make_ctx([(BOX, UP)], block(2.0))
+    grouped = plan_fix(replace(ctx, group=("forearm", "camera_mount")), [finding("inertia-placeholder")], FIX)
+    assert isinstance(grouped, Refusal) and "camera_mount" in grouped.reason
+    auto = replace(block(2.0), auto=True)
+    r = plan_fix(make_ctx([(BOX, UP)], auto), [finding("inertia-placeholder")], FIX)
+    assert isinstance(r, Refusal) and 'auto="true"' in r.reason
+
+
+def test_massless_moving_link_without_geometry_refuses_with_options() -> None:
+    ctx = make_ctx(None, block(0.0, tensor=np.zeros((3, 3))), name="tool_flange")
+    r = plan_fix(ctx, [finding("massless-moving-link", link="tool_flange")], FixOptions(fill_missing=True, density=1000.0))
+    assert isinstance(r, Refusal) and "no geometry" in r.reason and "make the joint fixed" in r.reason
+
+
+def test_incomplete_sdf_block_without_mass_takes_mass_source() -> None:
+    stated = replace_missing(block(1.0, tensor=np.diag([0.01, 1.0, 1.0])), ("mass", "iyy", "izz"))
+    ctx = make_ctx([(BOX, UP)], stated, fmt="sdf", settings=Settings(default_density=500.0))
+    p = plan(ctx, [finding("inertial-incomplete")])
+    assert p.new.mass == pytest.approx(500 * V_BOX, rel=1e-12)  # ρ abc
+    kept = plan(make_ctx([(BOX, UP)], stated, fmt="sdf"), [finding("inertial-incomplete")])
+    assert kept.new.mass == 1.0  # no source: the mass simulators use stays
+
+
+def replace_missing(stated: StatedInertial, missing: tuple[str, ...]) -> StatedInertial:
+    from dataclasses import replace
+
+    return replace(stated, missing=missing)
+
+
+@pytest.mark.parametrize(
+    ("shape", "moments"),
+    [
+        # Handbook solid cylinder, m = 1: Ixx = Iyy = (3r² + h²)/12, Izz = r²/2; I1 + I2 - I3 = h²/6.
+        (Shape("cylinder", (0.1, 1e-4)), (3 * 0.01 + 1e-8) / 12),  # thin disc: I1 + I2 = I3 + h²/6
+        (Shape("cylinder", (0.002, 1.0)), (3 * 4e-6 + 1.0) / 12),  # thin rod: Izz/trace ~ 1e-5
+    ],
+)
+def test_thin_bodies_survive_formatting_and_rereading(shape: Shape, moments: float) -> None:
+    from linkcheck.formats.numbers import format_edit, tensor_of
+
+    ctx = make_ctx([(shape, Pose())], block(1.0, tensor=np.diag([1.0, 1.0, 0.0])))
+    p = plan(ctx, [finding("inertia-not-positive-definite")])
+    assert p.new.inertia[0, 0] == pytest.approx(moments, rel=1e-12)
+    texts = format_edit(p.edit)
+    back = tensor_of({k: float(texts[k]) for k in ("ixx", "ixy", "ixz", "iyy", "iyz", "izz")})
+    assert mp.is_positive_definite(back) and mp.satisfies_triangle(back)
+
+
 # --- frames ------------------------------------------------------------------------------
 
 

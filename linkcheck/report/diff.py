@@ -6,7 +6,7 @@ import difflib
 from typing import TextIO
 
 CAUTION = (
-    "caution: estimated values assume uniform density; check them against CAD data or "
+    "estimated values assume uniform density; check them against CAD data or "
     "measurement before using the model on hardware: wrong inertia can make a robot move unexpectedly"
 )
 
