@@ -377,7 +377,7 @@ def summary_line(ctx: LinkContext, edit: InertialEdit, rules: tuple[str, ...], n
     if old is None:
         d = np.diag(edit.inertia_frame)
         com = " ".join(f"{v:.4g}" for v in edit.com)
-        return head + f"added mass {edit.mass:.4g}, com {com}, ixx {d[0]:.4g} iyy {d[1]:.4g} izz {d[2]:.4g}" + tail
+        return head + f"added mass {edit.mass:.4g} kg, com {com} m, ixx {d[0]:.4g} iyy {d[1]:.4g} izz {d[2]:.4g} kg m^2" + tail
     items: list[str] = []
     if _changed(old.mass, edit.mass, 0.0):
         items.append("mass %s -> %s" % _fmt_pair(old.mass, edit.mass))

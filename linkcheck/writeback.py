@@ -22,7 +22,7 @@ def write_atomic(path: Path, data: bytes) -> None:
     try:
         mode = stat.S_IMODE(os.stat(target).st_mode)
     except FileNotFoundError:
-        mode = None
+        mode = _default_mode()
     except OSError as exc:
         raise LinkcheckError(f"{path}: cannot write: {exc.strerror or exc}") from None
     tmp: str | None = None
@@ -32,8 +32,7 @@ def write_atomic(path: Path, data: bytes) -> None:
             out.write(data)
             out.flush()
             os.fsync(out.fileno())
-        if mode is not None:
-            os.chmod(tmp, mode)
+        os.chmod(tmp, mode)
         os.replace(tmp, target)
         tmp = None
     except Exception as exc:  # any failure: the original stays, the user gets one line
@@ -46,6 +45,13 @@ def write_atomic(path: Path, data: bytes) -> None:
             except OSError:
                 pass
     _sync_dir(target.parent)
+
+
+def _default_mode() -> int:
+    """What open(2) would give a new file under the current umask (mkstemp makes it 0600)."""
+    umask = os.umask(0)
+    os.umask(umask)
+    return 0o666 & ~umask
 
 
 def _sync_dir(folder: Path) -> None:

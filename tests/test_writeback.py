@@ -113,3 +113,13 @@ def test_symlink_is_followed_and_kept(tmp_path: Path) -> None:
 def test_missing_folder_raises_linkcheck_error(tmp_path: Path) -> None:
     with pytest.raises(LinkcheckError):
         write_atomic(tmp_path / "nope" / "robot.urdf", FIXED)
+
+
+def test_new_file_gets_umask_mode(tmp_path: Path) -> None:
+    old = os.umask(0o022)
+    try:
+        write_atomic(tmp_path / "new.urdf", FIXED)
+    finally:
+        os.umask(old)
+    assert stat.S_IMODE(os.stat(tmp_path / "new.urdf").st_mode) == 0o644  # open(2): 0666 & ~umask
+    assert (tmp_path / "new.urdf").read_bytes() == FIXED
