@@ -109,6 +109,8 @@ class FrameGraph:
         self._frames: dict[FrameId, _Frame] = {WORLD: _Frame("world", Pose(), None)}
         self._world_cache: dict[FrameId, Pose] = {}
         self._link_cache: dict[FrameId, FrameId] = {}
+        #: Leading scope entries left out of frame names in messages (1 for a single top-level model).
+        self.drop = 0
 
     # ---- building
 
@@ -175,12 +177,12 @@ class FrameGraph:
     def describe_scope(scope: tuple[str, ...]) -> str:
         return f"model '{'::'.join(scope)}'" if scope else "the world"
 
-    @staticmethod
-    def describe(frame: FrameId) -> str:
+    def describe(self, frame: FrameId) -> str:
+        """A frame's name as the file's user reads it (leading scopes dropped as for link names)."""
         scope, name = frame
         if name == MODEL_FRAME:
             return "::".join(scope) or "world"
-        return "::".join(scope + (name,))
+        return "::".join(scope[self.drop :] + (name,))
 
     # ---- poses
 
@@ -231,6 +233,8 @@ class FrameGraph:
 
     def world_pose(self, frame: FrameId) -> Pose:
         """Pose of ``frame`` in the root frame of the file."""
+        if frame == WORLD:
+            return Pose()
         if frame in self._world_cache:
             return self._world_cache[frame]
         chain: list[FrameId] = []

@@ -103,11 +103,13 @@ class _Reader:
 
     def __init__(self, ctx: _Ctx, doc: Document, xml: XmlFile, version: tuple[int, int], read_only: bool) -> None:
         self.ctx, self.doc, self.xml, self.version, self.read_only = ctx, doc, xml, version, read_only
+        self.current: str | None = None  # the link being read: findings default to it
 
     # ---- findings
 
     def finding(self, rule: str, severity: str, message: str, el: Any = None, link: str | None = None, **kw: Any) -> None:
         line = self.xml.line(el) if el is not None else None
+        link = link if link is not None else self.current
         self.doc.findings.append(Finding(rule, severity, message, link=link, line=line, **kw))  # type: ignore[arg-type]
 
     def malformed(self, message: str, el: Any, link: str | None = None) -> None:
@@ -224,6 +226,7 @@ class _Reader:
         self.ctx.graph.add_link(scope, name, pose, rel, self.xml.line(el))
         handle = SdfLinkHandle(el, self.xml, read_only=self.read_only)
         link = Link(full, self.xml.line(el), None, "absent", handle=handle)
+        self.current = full
         iel = _child(el, "inertial")
         if iel is not None:
             self.inertial(iel, link)
@@ -237,6 +240,7 @@ class _Reader:
                 if item is not None:
                     pending.append(item)
         link.suppressions = self.suppressions(el)
+        self.current = None
         self.doc.links.append(link)
         self.ctx.pending_links.append((self.doc, link, (scope, name), pending))
 
@@ -611,7 +615,7 @@ def read_sdf(path: Path, data: bytes | None = None, search: Any = None) -> Docum
             top.append((m, ()))
     top_names = [m.get("name") or "" for m, _ in top]
     includes_at_top = sum(len(_children(w, "include")) for w in worlds)
-    ctx.naming_drop = 1 if len(top) == 1 and includes_at_top == 0 else 0
+    ctx.naming_drop = ctx.graph.drop = 1 if len(top) == 1 and includes_at_top == 0 else 0
     reader = _Reader(ctx, doc, xml, version, False)
     if not top and not includes_at_top:
         doc.findings.append(Finding("xml-malformed", "info", "no <model> in this SDFormat file: nothing to check", line=1))

@@ -121,7 +121,8 @@ class _Splicer:
     def apply(self) -> bytes:
         out = self.data
         last = len(out) + 1
-        for start, end, text in sorted(self.splices, key=lambda s: (s[0], s[1]), reverse=True):
+        order = sorted(range(len(self.splices)), key=lambda i: (self.splices[i][0], self.splices[i][1], i), reverse=True)
+        for start, end, text in (self.splices[i] for i in order):
             if end > last:
                 raise ValueError("internal: overlapping edits")
             out = out[:start] + text + out[end:]
