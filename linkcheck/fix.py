@@ -174,7 +174,7 @@ def _plan_stated(ctx: LinkContext, findings: list[Finding], active: tuple[str, .
                 problem = "it is still far from the geometry estimate and --recompute is on"
             if problem is None:
                 return _make_plan(ctx, candidate, tuple(active), estimated=False, note=why, options=options)
-            fallback_why = f"the {why} tensor {problem}"
+            fallback_why = f"the stated tensor {why} {problem}"
         else:
             fallback_why = why
     mass, mass_note = stated.mass, ""
@@ -207,10 +207,10 @@ def _keep_candidate(ctx: LinkContext, findings: list[Finding], keep: list[str]) 
             notes.append(f"rescaled by 1e{-int(power)}")
         elif rule == "inertia-wrong-reference-point":
             tensor = mp.shift_to_com(tensor, stated.mass, stated.com)
-            notes.append("shifted to the COM (parallel axis theorem)")
+            notes.append("shifted to the COM by the parallel axis theorem")
         elif rule == "inertia-product-sign":
             tensor = tensor * np.where(np.eye(3, dtype=bool), 1.0, -1.0)
-            notes.append("products negated")
+            notes.append("with its products negated")
     tensor = (tensor + tensor.T) / 2
     return MassProperties(stated.mass, np.asarray(stated.com, dtype=float), tensor), ", ".join(notes)
 
