@@ -171,3 +171,8 @@ def test_external_dtd_refused(tmp_path: Path) -> None:
 def test_malformed_is_one_line_with_line(data: bytes, line: int) -> None:
     err = assert_one_line_refusal(data)
     assert err.line == line
+
+
+def test_unknown_declared_encoding_is_one_line() -> None:
+    err = assert_one_line_refusal(b'<?xml version="1.0" encoding="no-such-codec"?>\n<robot/>')
+    assert "no-such-codec" in err.message

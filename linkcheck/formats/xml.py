@@ -229,6 +229,8 @@ def _expat_pass(data: bytes, encoding: str | None) -> tuple[list[tuple[str, _Pos
         raise XmlError(exc.message, parser.CurrentLineNumber) from None
     except expat.ExpatError as exc:
         raise XmlError(expat.ErrorString(exc.code) or "not well-formed", exc.lineno) from None
+    except (LookupError, ValueError) as exc:
+        raise XmlError(f"cannot decode the file: {exc}", 1) from None
     return elements, comments
 
 
@@ -265,8 +267,8 @@ def parse_xml(path: Path, data: bytes) -> XmlFile:
         msg = exc.msg if getattr(exc, "msg", None) else str(exc)
         msg = re.sub(r",? line \d+, column \d+\s*$", "", msg)
         raise XmlError(msg, line) from None
-    except ValueError as exc:
-        raise XmlError(str(exc)) from None
+    except (LookupError, ValueError) as exc:
+        raise XmlError(f"cannot decode the file: {exc}", 1) from None
     if root is None:
         raise XmlError("no root element")
 
