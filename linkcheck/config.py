@@ -359,8 +359,9 @@ def load_settings(start: Path, explicit: Path | None = None, cli: dict[str, Any]
         file_changes = dict(_file_changes(source, False)) if source is not None else {}
     cli_changes = _cli_changes(cli) if cli else {}
     merged = {**file_changes, **cli_changes}
-    if "severity" in file_changes and "severity" in cli_changes:
-        merged["severity"] = {**file_changes["severity"], **cli_changes["severity"]}
+    for table in ("severity", "package_paths"):
+        if table in file_changes and table in cli_changes:
+            merged[table] = {**file_changes[table], **cli_changes[table]}
     settings = DEFAULT.replace(**merged)
     _check_order(settings, source if not cli_changes else None)
     return settings

@@ -230,7 +230,7 @@ _CATALOGUE: tuple[Rule, ...] = (
         "suppression-unused",
         "info",
         "An inline 'linkcheck: allow' comment silenced nothing.",
-        "The comment <!-- linkcheck: allow RULE -- reason --> allows a rule on one link, but that "
+        "The comment <!-- linkcheck: allow RULE - reason --> allows a rule on one link, but that "
         "rule did not fire there (or no rule has that name). Remove the stale comment, or correct "
         "the rule name.",
     ),

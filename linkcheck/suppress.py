@@ -1,4 +1,7 @@
-"""Inline suppressions: ``<!-- linkcheck: allow RULE[, RULE] -- reason -->`` on a link.
+"""Inline suppressions: ``<!-- linkcheck: allow RULE[, RULE] - reason -->`` on a link.
+
+XML forbids "--" inside a comment (XML 1.0 §2.5), so the reason follows a single
+dash, a colon or "because".
 
 The readers put each allowed rule on ``Link.suppressions`` as (rule, comment line,
 reason). A suppression silences only its rules on its own link; one that silenced

@@ -230,3 +230,24 @@ def _non_default(key: str) -> str:
     if key.endswith("-info") or key == "mesh-min-extent":
         return repr(value * 0.9)
     return repr(value * 1.1 if value > 0 else 0.01)
+
+
+def test_cli_package_paths_add_to_the_files(tmp_path: Path) -> None:
+    write(tmp_path / "repo/linkcheck.toml", "[package-paths]\na = 'src/a'\nb = 'src/b'\n")
+    s = load_settings(robot(tmp_path), cli={"package_paths": {"b": "/opt/b"}})
+    assert Path(s.package_paths["a"]) == (tmp_path / "repo/src/a").resolve()
+    assert s.package_paths["b"] == "/opt/b"
+
+
+def test_cli_config_file_through_the_command_line(tmp_path: Path) -> None:
+    """The real CLI turns a bad config into exit 2 and one line naming file and key (DESIGN.md exit codes)."""
+    import subprocess
+    import sys
+
+    urdf = robot(tmp_path)
+    write(tmp_path / "repo/linkcheck.toml", "com-offset-warn = 'far'\n")
+    r = subprocess.run([sys.executable, "-m", "linkcheck", str(urdf)], capture_output=True, text=True,
+                       cwd=tmp_path, timeout=120)
+    assert r.returncode == 2
+    assert r.stderr.strip().count("\n") == 0 and "Traceback" not in r.stderr
+    assert "repo/linkcheck.toml:1:" in r.stderr and "com-offset-warn" in r.stderr

@@ -90,3 +90,24 @@ def test_no_terminal_codes_and_one_command_per_line(tmp_path: Path) -> None:
     text = render_github(report(tmp_path), base=tmp_path)
     assert "\x1b[" not in text and text.endswith("\n")
     assert all(line.startswith("::") for line in text.splitlines())
+
+
+def test_real_cli_output(tmp_path: Path) -> None:
+    """--format github on a description with an impossible tensor: every line a documented command."""
+    import subprocess
+    import sys
+
+    (tmp_path / "cart.urdf").write_text("""<robot name="cart">
+  <link name="base">
+    <inertial><mass value="2"/><inertia ixx="1" ixy="0" ixz="0" iyy="1" iyz="0" izz="3"/></inertial>
+    <collision><geometry><box size="0.1 0.2 0.3"/></geometry></collision>
+  </link>
+</robot>
+""")
+    r = subprocess.run([sys.executable, "-m", "linkcheck", "--format", "github", "cart.urdf"], cwd=tmp_path,
+                       capture_output=True, text=True, timeout=120)
+    assert r.returncode == 1, r.stderr
+    parsed = [parse(line) for line in r.stdout.splitlines()]
+    assert parsed and all(cmd == "error" for cmd, _, _ in parsed)
+    assert {p["file"] for _, p, _ in parsed} == {"cart.urdf"}
+    assert any("inertia-triangle-inequality" in p["title"] for _, p, _ in parsed)

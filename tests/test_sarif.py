@@ -150,3 +150,30 @@ def test_empty_report_is_a_valid_run(tmp_path: Path) -> None:
 def test_plain_text_no_terminal_codes(tmp_path: Path) -> None:
     text = render_sarif(report(tmp_path), base=tmp_path)
     assert "\x1b[" not in text and text.endswith("\n")
+
+
+def test_real_cli_output_validates(tmp_path: Path) -> None:
+    """The whole path: a description with an impossible tensor (1 + 1 < 3) -> --format sarif -> schema."""
+    import subprocess
+    import sys
+
+    robots = tmp_path / "robots"
+    robots.mkdir()
+    (robots / "cart.urdf").write_text("""<robot name="cart">
+  <link name="base">
+    <inertial><mass value="2"/><inertia ixx="1" ixy="0" ixz="0" iyy="1" iyz="0" izz="3"/></inertial>
+    <collision><geometry><box size="0.1 0.2 0.3"/></geometry></collision>
+  </link>
+</robot>
+""")
+    r = subprocess.run([sys.executable, "-m", "linkcheck", "--format", "sarif", "robots"], cwd=tmp_path,
+                       capture_output=True, text=True, timeout=120)
+    assert r.returncode == 1, r.stderr
+    doc = json.loads(r.stdout)
+    jsonschema.Draft4Validator(SCHEMA).validate(doc)
+    results = doc["runs"][0]["results"]
+    assert "inertia-triangle-inequality" in {x["ruleId"] for x in results}
+    for x in results:
+        physical = x["locations"][0]["physicalLocation"]
+        assert physical["artifactLocation"]["uri"] == "robots/cart.urdf"
+        assert physical["region"]["startLine"] in (2, 3)  # the link's or the inertial's line

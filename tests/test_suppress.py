@@ -69,3 +69,46 @@ def test_rule_turned_off_by_configuration_is_not_called_stale() -> None:
 def test_no_suppressions_keeps_everything_in_order() -> None:
     findings = [finding("com-offset", "a"), finding("inertia-mismatch", "b")]
     assert apply_suppressions(findings, [link("a"), link("b")]) == findings
+
+
+def _urdf(comment_inside: str, comment_before: str = "") -> str:
+    return f"""<?xml version="1.0"?>
+<robot name="test_rig">
+  {comment_before}
+  <link name="base">
+    {comment_inside}
+    <inertial>
+      <mass value="2"/>
+      <inertia ixx="1" ixy="0" ixz="0" iyy="1" iyz="0" izz="3"/>
+    </inertial>
+    <collision><geometry><box size="0.1 0.2 0.3"/></geometry></collision>
+  </link>
+</robot>
+"""
+
+
+def test_comments_in_a_real_file_through_the_cli(tmp_path, capsys) -> None:  # type: ignore[no-untyped-def]
+    """Reader + runner + suppression, as a user writes it (issue 5's comment syntax).
+
+    The tensor (1, 1, 3) breaks I1 + I2 >= I3 (a property of every rigid body); both
+    rules that fire on it are allowed, one stale allowance is reported as info.
+    """
+    import json
+
+    from linkcheck.cli import main
+
+    path = tmp_path / "rig.urdf"
+    path.write_text(_urdf("<!-- linkcheck: allow inertia-triangle-inequality, inertia-exceeds-geometry - test rig -->",
+                          "<!-- linkcheck: allow com-offset: old -->"))
+    code = main(["--format", "json", str(path)])
+    report = json.loads(capsys.readouterr().out)
+    rules = [(f["rule"], f["severity"]) for f in report["files"][0]["findings"]]
+    assert ("suppression-unused", "info") in rules
+    assert not any(r.startswith("inertia-") for r, _ in rules)
+    assert code == 0  # infos stay below the default fail-on (warning)
+
+    path.write_text(_urdf("<!-- linkcheck: allow inertia-triangle-inequality - only one -->"))
+    code = main(["--format", "json", str(path)])
+    rules = [f["rule"] for f in json.loads(capsys.readouterr().out)["files"][0]["findings"]]
+    assert "inertia-exceeds-geometry" in rules and "inertia-triangle-inequality" not in rules
+    assert code == 1
