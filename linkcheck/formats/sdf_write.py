@@ -14,7 +14,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from linkcheck.formats.frames import PoseError, parse_pose
-from linkcheck.formats.numbers import ANGLE_ATOL, INERTIA_KEYS, InertialEdit, format_edit, shortest
+from linkcheck.formats.numbers import ANGLE_ATOL, INERTIA_KEYS, InertialEdit, format_edit
 from linkcheck.formats.xml import XmlError, XmlFile, parse_xml
 
 if TYPE_CHECKING:
@@ -154,8 +154,18 @@ def _pose_text(edit: InertialEdit, texts: dict[str, str], pel: Any | None) -> st
         from linkcheck.inertia import matrix_to_rpy
 
         rpy = np.degrees(matrix_to_rpy(np.asarray(edit.rotation, dtype=float)))
-        return f"{texts['xyz']} " + " ".join(shortest(a, np.degrees(ANGLE_ATOL)) for a in rpy)
+        return f"{texts['xyz']} " + " ".join(_degrees_text(a) for a in rpy)
     return f"{texts['xyz']} {texts['rpy']}"
+
+
+def _degrees_text(angle: float) -> str:
+    """An angle in degrees with the fewest decimals that keep it within ANGLE_ATOL radians."""
+    atol = float(np.degrees(ANGLE_ATOL))
+    for decimals in range(0, 15):
+        text = f"{angle:.{decimals}f}"
+        if abs(float(text) - angle) <= atol:
+            return "0" if float(text) == 0 else text
+    return repr(float(angle))
 
 
 def _same_pose(pel: Any, edit: InertialEdit) -> bool:
