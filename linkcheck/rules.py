@@ -250,3 +250,12 @@ def suggest(name: str) -> str | None:
 
     match = difflib.get_close_matches(name, list(RULES), n=1, cutoff=0.6)
     return match[0] if match else None
+
+
+def catalogue_markdown() -> str:
+    """The README's rule table: name, default severity, summary, fixing flag."""
+    rows = ["| rule | default | meaning | fixed by |", "|---|---|---|---|"]
+    for r in RULES.values():
+        fix = "—" if r.fix == "none" else f"`{r.fix}`"
+        rows.append(f"| `{r.name}` | {r.severity} | {r.summary.replace('|', '/')} | {fix} |")
+    return "\n".join(rows) + "\n"

@@ -177,3 +177,12 @@ def test_real_cli_output_validates(tmp_path: Path) -> None:
         physical = x["locations"][0]["physicalLocation"]
         assert physical["artifactLocation"]["uri"] == "robots/cart.urdf"
         assert physical["region"]["startLine"] in (2, 3)  # the link's or the inertial's line
+
+
+def test_readme_table_has_one_row_per_design_rule() -> None:
+    from linkcheck.rules import catalogue_markdown
+
+    rows = catalogue_markdown().splitlines()[2:]
+    assert [row.split("|")[1].strip(" `") for row in rows] == list(RULES)
+    assert sorted(RULES) == sorted(DESIGN_RULES)
+    assert all(row.count("|") == 5 for row in rows)
