@@ -9,6 +9,7 @@ it does not); everything else stays byte-identical.
 
 from __future__ import annotations
 
+import math
 import re
 from dataclasses import dataclass
 from pathlib import Path
@@ -99,7 +100,7 @@ class _Reader:
                 self.malformed(el, f"{what} is '{raw}' — {_why(part, count)}")
                 raise _Bad
             values.append(float(part))
-        if not all(np.isfinite(values)):
+        if not all(math.isfinite(v) for v in values):
             self.malformed(el, f"{what} is '{raw}' — expected a finite number")
             raise _Bad
         return values
@@ -430,8 +431,9 @@ def rewrite_urdf(doc: Document, changes: dict[str, InertialEdit]) -> bytes:
     if doc.fatal:
         raise LinkcheckError(f"{doc.path}: cannot rewrite a file that could not be read")
     xml: XmlFile | None = None
+    by_name = {k.name: k for k in doc.links}
     for name in changes:
-        link = doc.link(name)
+        link = by_name.get(name)
         if link is None or not isinstance(link.handle, UrdfLinkHandle):
             raise LinkcheckError(f"{doc.path}: no link '{name}' to rewrite")
         if not link.handle.writable:
@@ -442,7 +444,7 @@ def rewrite_urdf(doc: Document, changes: dict[str, InertialEdit]) -> bytes:
         raise LinkcheckError(f"{doc.path}: the document changed since it was read")
     splice = _Splice(xml)
     for name, edit in changes.items():
-        handle: UrdfLinkHandle = doc.link(name).handle  # type: ignore[union-attr]
+        handle: UrdfLinkHandle = by_name[name].handle
         texts = format_edit(edit)
         inertial = _child(handle.element, "inertial")
         if inertial is None:

@@ -110,20 +110,13 @@ class XmlFile:
         return [e for e in self._keep if isinstance(e.tag, str)]
 
 
+_TAG = re.compile(rb"""<[^>"']*(?:(?:"[^"]*"|'[^']*')[^>"']*)*>""")
+
+
 def _tag_end(data: bytes, start: int) -> int:
     """Offset after the '>' closing the tag that begins at ``start`` ('>' may sit inside quotes)."""
-    i, n, quote = start + 1, len(data), 0
-    while i < n:
-        c = data[i]
-        if quote:
-            if c == quote:
-                quote = 0
-        elif c in (0x22, 0x27):
-            quote = c
-        elif c == 0x3E:
-            return i + 1
-        i += 1
-    return n
+    m = _TAG.match(data, start)
+    return m.end() if m else len(data)
 
 
 def _detect_encoding(data: bytes) -> tuple[str | None, bool]:
