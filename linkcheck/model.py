@@ -85,7 +85,8 @@ class StatedInertial:
     ``inertia_frame`` is the tensor as written: about the COM, in the axes of
     the inertial frame, whose orientation in the link frame is ``rotation``.
     ``missing`` lists children absent from the file whose defaults filled in
-    (SDF). ``auto`` is SDF ``<inertial auto="true">``.
+    (SDF: mass, inertia, ixx/iyy/izz; omitted products are 0 and not listed).
+    ``auto`` is SDF ``<inertial auto="true">``.
     """
 
     line: int

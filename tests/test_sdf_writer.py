@@ -54,7 +54,7 @@ def test_round_trip_values_and_idempotence():
     assert [k.name for k in again.links] == [k.name for k in doc.links]
     for name, e in changes.items():
         st = again.link(name).inertial
-        assert st is not None and st.missing in ((), ("ixy", "ixz", "iyz")) or name == "yaw_arm"
+        assert st is not None and st.missing == ()
         assert np.isclose(st.mass, e.mass, rtol=1e-9)
         assert np.allclose(st.com, e.com, atol=1e-12)
         got = st.mass_properties().inertia

@@ -274,7 +274,8 @@ class _Reader:
             for key in INERTIA_DEFAULTS:
                 kel = _child(inel, key)
                 if kel is None:
-                    missing.append(key)
+                    if INERTIA_DEFAULTS[key]:  # omitted products are 0, which is what their omission means
+                        missing.append(key)
                     continue
                 value = self.number(kel, f"link '{name}': inertia {key}")
                 if value is None:
