@@ -148,7 +148,7 @@ def _report(args: argparse.Namespace, session: Any, results: list[Any], problems
     fatal = any(r.document.fatal for r in results)
     for r in results:
         for f in r.findings:
-            if f.rule == "xml-malformed":
+            if f.rule == "xml-malformed" and f.severity == "error":
                 print(f"linkcheck: {_display(r.path)}:{f.line or 1}: {f.message}", file=sys.stderr)
     for message in problems:
         print(f"linkcheck: {message}", file=sys.stderr)
