@@ -137,6 +137,8 @@ def distance_to_hull(points: np.ndarray, p: np.ndarray) -> float:
     p = np.asarray(p, dtype=float).reshape(3)
     cols = np.ascontiguousarray(pts.T)
     lo, hi = cols.min(axis=1), cols.max(axis=1)
+    if not (np.all(np.isfinite(lo)) and np.all(np.isfinite(hi)) and np.all(np.isfinite(p))):
+        raise ValueError("points and query point must be finite (got nan or inf)")
     # Coordinates carry rounding of their own size, so far-off sets get a looser floor.
     size = max(float(np.linalg.norm(hi - lo)), 1e-6 * float(np.max(np.abs(np.concatenate([lo, hi, p])))))
     if size == 0.0:
