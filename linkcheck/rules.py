@@ -227,6 +227,15 @@ _CATALOGUE: tuple[Rule, ...] = (
         "--fill-missing",
     ),
     Rule(
+        "geometry-note",
+        "info",
+        "How the estimate was made, where it matters.",
+        "Says how a link's uniform-density estimate was built when that is not the plain default: a "
+        "shape without volume (plane, heightmap, ...) was skipped, the visual geometry was used because "
+        "the collision proxy is far too small for the stated mass, or a package was found by its "
+        "folder name rather than its package.xml. Nothing to fix; read it before trusting a comparison.",
+    ),
+    Rule(
         "suppression-unused",
         "info",
         "An inline 'linkcheck: allow' comment silenced nothing.",

@@ -195,7 +195,7 @@ def run_file(path: Path, settings: Settings, options: RunOptions = RunOptions(),
 def _visible(findings: list[Finding], settings: Settings, doc: Document) -> list[Finding]:
     from linkcheck.suppress import apply_suppressions
 
-    return apply_suppressions(select(findings, settings, doc.links), doc.links)
+    return apply_suppressions(select(findings, settings, doc.links), doc.links, settings)
 
 
 def _plan_and_splice(result: FileResult, settings: Settings, options: RunOptions, estimator: Estimator) -> None:

@@ -80,8 +80,7 @@ class Session:
         from linkcheck.repo_scan import descriptions_using, find_repo_root
 
         settings = self.settings_for(mesh)
-        root = find_repo_root(mesh)
         try:
-            return descriptions_using(mesh, root, self.search_for(settings, mesh))
+            return descriptions_using(mesh, find_repo_root(mesh), self.search_for(settings, mesh))
         except OSError as exc:
             raise LinkcheckError(f"{mesh}: cannot scan the repository for its users: {exc}") from exc
