@@ -202,6 +202,16 @@ def test_product_sign_negates_users_products() -> None:
     assert not p.estimated and "products negated" in p.summary
 
 
+def test_units_explains_exceeds_geometry_and_keeps_users_data() -> None:
+    # x1e6 also breaks trace/2 <= m R² (R = half the box diagonal): the rescaled tensor alone explains both.
+    user = box_moments(2.0, 0.4, 0.2, 0.1) * 1.1
+    ctx = make_ctx([(BOX, UP)], block(2.0, com=(0, 0, 0.05), tensor=user * 1e6))
+    p = plan(ctx, [finding("inertia-exceeds-geometry"), finding("inertia-units-suspect", power=6)])
+    assert not p.estimated
+    np.testing.assert_allclose(p.new.inertia, user, rtol=1e-12)
+    assert p.rules == ("inertia-exceeds-geometry", "inertia-units-suspect")
+
+
 def test_keep_diagnosis_loses_to_placeholder() -> None:
     ctx = make_ctx([(BOX, UP)], block(2.0, com=(0, 0, 0.05)))
     p = plan(ctx, [finding("inertia-units-suspect", power=3), finding("inertia-placeholder")])
