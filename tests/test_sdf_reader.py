@@ -369,3 +369,41 @@ def test_demo_fixture_reads_cleanly():
     assert [k.name for k in doc.links] == ["mount_plate", "yaw_arm", "pitch_cradle", "camera"]
     assert not [f for f in doc.findings if f.severity == "error"]
     assert [f.rule for f in doc.findings] == ["inertial-incomplete"]
+
+
+def test_demo_world_fixture_with_include_and_unresolved_include(monkeypatch):
+    for var in ("SDF_PATH", "GZ_SIM_RESOURCE_PATH", "GAZEBO_MODEL_PATH", "IGN_GAZEBO_RESOURCE_PATH"):
+        monkeypatch.delenv(var, raising=False)
+    doc = read_sdf(Path(__file__).parent.parent / "fixtures" / "sdf" / "orchard_row.world")
+    assert [k.name for k in doc.links] == ["ground::soil", "scout::airframe", "cart::chassis"]
+    (sub,) = doc.included
+    assert [k.name for k in sub.links][:2] == ["scout::gimbal::mount_plate", "scout::gimbal::yaw_arm"]
+    assert [j.name for j in sub.joints] == ["scout::gimbal::yaw_joint", "scout::gimbal::pitch_joint", "scout::gimbal::camera_mount"]
+    # the included model's own findings stay with its own file
+    assert [f.rule for f in sub.findings] == ["inertial-incomplete"]
+    (mount,) = doc.joints
+    # include pose relative_to airframe: mount plate 0.1 forward, 0.06 below
+    assert mount.child == "scout::gimbal::mount_plate" and np.allclose(mount.pose.translation, [0.1, 0, -0.06])
+    assert sorted((f.severity, f.line) for f in doc.findings) == [("info", 9), ("info", 50)]
+    assert any("'model://weather_mast' not found" in f.message for f in doc.findings)
+    assert any("plane carries no volume" in f.message for f in doc.findings)
+    assert doc.link("cart::chassis").inertial.auto and doc.link("cart::chassis").inertial.density == 600
+
+
+def test_include_through_configured_model_paths(tmp_path):
+    from linkcheck.geometry.resolve import SearchPaths
+
+    make_model_dir(tmp_path / "elsewhere", "cam")
+    (tmp_path / "w").mkdir()
+    path = tmp_path / "w" / "t.sdf"
+    path.write_text("<sdf version='1.9'><model name='m'><link name='base'/><include><uri>model://cam</uri></include></model></sdf>")
+    assert read_sdf(path, search=SearchPaths(env={})).included == []
+    doc = read_sdf(path, search=SearchPaths(model_paths=(tmp_path / "elsewhere",), env={}))
+    assert [k.name for k in doc.included[0].links] == ["gadget::body"]
+
+
+def test_duplicate_names_are_reported(tmp_path):
+    doc = read("<link name='a'/><link name='a'/><frame name='a'/>", tmp_path)
+    assert [k.name for k in doc.links] == ["a"]
+    dup = [f for f in doc.findings if "already used" in f.message]
+    assert len(dup) == 2 and all(f.severity == "error" for f in dup)

@@ -17,6 +17,7 @@ from pathlib import Path
 from typing import Any
 
 import numpy as np
+from lxml import etree
 
 from linkcheck.formats.frames import MODEL_FRAME, WORLD, FrameError, FrameGraph, FrameId, PoseError, parse_pose
 from linkcheck.formats.xml import XmlError, XmlFile, parse_xml
@@ -168,6 +169,13 @@ class _Reader:
             out.append(v)
         return tuple(out)
 
+    def unique(self, scope: tuple[str, ...], name: str, el: Any, what: str) -> bool:
+        """Links, joints and frames share one namespace per model (sdf/1.8+ frame semantics)."""
+        if not self.ctx.graph.has((scope, name)) and name not in ("world", MODEL_FRAME):
+            return True
+        self.malformed(f"{what} '{self.display(scope, name)}': the name is already used in {FrameGraph.describe_scope(scope)}: skipped", el)
+        return False
+
     # ---- models
 
     def model(self, el: Any, scope: tuple[str, ...], pose_override: tuple[Pose, str | None] | None = None) -> None:
@@ -199,6 +207,8 @@ class _Reader:
         if not name:
             self.malformed(f"a <frame> in {FrameGraph.describe_scope(scope)} has no name", el)
             return
+        if not self.unique(scope, name, el, "frame"):
+            return
         pose, rel, _ = self.pose_of(el, f"frame '{self.display(scope, name)}' pose")
         self.ctx.graph.add_frame(scope, name, pose, rel, el.get("attached_to"), self.xml.line(el))
 
@@ -209,6 +219,8 @@ class _Reader:
         if not name or not parent or not child:
             what = "name" if not name else "<parent>" if not parent else "<child>"
             self.malformed(f"{where if name else 'a <joint>'} has no {what}", el)
+            return
+        if not self.unique(scope, name, el, "joint"):
             return
         pose, rel, _ = self.pose_of(el, f"{where} pose")
         self.ctx.graph.add_joint(scope, name, child, pose, rel, self.xml.line(el))
@@ -222,6 +234,8 @@ class _Reader:
             self.malformed(f"a <link> in {FrameGraph.describe_scope(scope)} has no name", el)
             return
         full = self.display(scope, name)
+        if not self.unique(scope, name, el, "link"):
+            return
         pose, rel, _ = self.pose_of(el, f"link '{full}' pose")
         self.ctx.graph.add_link(scope, name, pose, rel, self.xml.line(el))
         handle = SdfLinkHandle(el, self.xml, read_only=self.read_only)
@@ -430,9 +444,9 @@ class _Reader:
 
     def suppressions(self, el: Any) -> list[tuple[str, int, str]]:
         """Inline ``<!-- linkcheck: allow RULE[, RULE] - reason -->`` inside the link or right before it."""
-        comments = [c for c in el.iter() if c.tag is _COMMENT]
+        comments = [c for c in el.iter() if c.tag is etree.Comment]
         prev = el.getprevious()
-        while prev is not None and prev.tag is _COMMENT:
+        while prev is not None and prev.tag is etree.Comment:
             comments.insert(0, prev)
             if (prev.tail or "").strip():
                 break
@@ -462,8 +476,8 @@ class _Reader:
             self.finding(
                 "estimate-unavailable",
                 "info",
-                f"<include> '{uri}' not found (searched the file's folder, SDF_PATH, GZ_SIM_RESOURCE_PATH and "
-                "configured model paths): its links are not part of the whole-model picture",
+                f"<include> '{uri}' not found (looked beside this file, in the model paths and in "
+                "GZ_SIM_RESOURCE_PATH/SDF_PATH): its links are left out of the whole-model picture",
                 el,
             )
             return
@@ -501,18 +515,6 @@ class _Reader:
         self.doc.included.append(sub_doc)
 
 
-_COMMENT: Any = None
-
-
-def _env_paths(*names: str) -> list[Path]:
-    out = []
-    for name in names:
-        for part in os.environ.get(name, "").split(os.pathsep):
-            if part:
-                out.append(Path(part))
-    return out
-
-
 def _model_dir_file(folder: Path) -> Path | None:
     """The SDF file of a model-database folder: model.config's best <sdf> entry (else model.sdf)."""
     config = folder / "model.config"
@@ -532,25 +534,30 @@ def _model_dir_file(folder: Path) -> Path | None:
     return candidate if candidate.is_file() else None
 
 
-def find_include(uri: str, base_dir: Path, search: Any = None) -> Path | None:
-    """The SDF file an <include><uri> names, or None (model://, file://, relative or absolute paths)."""
-    try:
-        from linkcheck.geometry import resolve as _resolve  # written alongside; optional here
+def _model_roots(search: Any) -> list[Path]:
+    """``model://`` roots: configured model paths, then the simulators' environment variables."""
+    from linkcheck.geometry.resolve import MODEL_PATH_VARS
 
-        if hasattr(_resolve, "resolve_uri") and search is not None:
-            found = _resolve.resolve_uri(uri, base_dir, search)
-            found = getattr(found, "path", found)
-            if found is not None:
-                p = Path(found)
-                return _model_dir_file(p) if p.is_dir() else (p if p.is_file() else None)
-    except Exception:  # noqa: BLE001 - a resolver failure is "not found", never a crash
-        pass
-    roots: list[Path] = []
+    roots = [Path(p) for p in getattr(search, "model_paths", ()) or ()]
+    env = getattr(search, "env", None)
+    env = os.environ if env is None else env
+    for var in MODEL_PATH_VARS:
+        roots.extend(Path(p) for p in env.get(var, "").split(os.pathsep) if p)
+    return roots
+
+
+def find_include(uri: str, base_dir: Path, search: Any = None) -> Path | None:
+    """The SDF file an ``<include><uri>`` names, or None.
+
+    ``model://NAME[/file]`` is looked up in the including file's folder and its parent
+    (a repository's models side by side), then the configured model paths and
+    GZ_SIM_RESOURCE_PATH / SDF_PATH / GAZEBO_MODEL_PATH; relative and ``file://`` URIs
+    are relative to the including file. A folder means its model.config entry.
+    """
+    uri = uri.strip()
     if uri.startswith("model://"):
-        rest = uri[len("model://") :]
-        extra = [Path(p) for p in (getattr(search, "model_paths", None) or (search if isinstance(search, (list, tuple)) else []))]
-        roots = [base_dir, base_dir.parent, *extra, *_env_paths("SDF_PATH", "GZ_SIM_RESOURCE_PATH", "GAZEBO_MODEL_PATH")]
-        candidates = [r / rest for r in roots]
+        rest = uri[len("model://") :].lstrip("/")
+        candidates = [root / rest for root in (base_dir, base_dir.parent, *_model_roots(search))]
     elif uri.startswith("file://"):
         rest = uri[len("file://") :]
         candidates = [Path(rest) if Path(rest).is_absolute() else base_dir / rest]
@@ -559,6 +566,8 @@ def find_include(uri: str, base_dir: Path, search: Any = None) -> Path | None:
     else:
         candidates = [Path(uri) if Path(uri).is_absolute() else base_dir / uri]
     for c in candidates:
+        if not _named(c):
+            continue
         if c.is_dir():
             found = _model_dir_file(c)
             if found is not None:
@@ -566,6 +575,11 @@ def find_include(uri: str, base_dir: Path, search: Any = None) -> Path | None:
         elif c.is_file():
             return c.resolve()
     return None
+
+
+def _named(path: Path) -> bool:
+    """Refuse empty names (``model://`` alone would name the search root itself)."""
+    return bool(path.name)
 
 
 def _fatal(path: Path, data: bytes, message: str, line: int | None = None) -> Document:
@@ -576,10 +590,6 @@ def _fatal(path: Path, data: bytes, message: str, line: int | None = None) -> Do
 
 def read_sdf(path: Path, data: bytes | None = None, search: Any = None) -> Document:
     """Read an SDFormat file; bad content becomes findings on the Document, never an exception."""
-    global _COMMENT
-    from lxml import etree
-
-    _COMMENT = etree.Comment
     path = Path(path)
     if data is None:
         try:
