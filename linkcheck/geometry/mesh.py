@@ -1,0 +1,581 @@
+"""Mesh geometry: load, integrate exactly, judge honestly, cache.
+
+Binary STL is read by our own numpy view over the bytes (no trimesh import); ASCII STL by a
+regular expression. OBJ, COLLADA, glTF/GLB, PLY and OFF go through trimesh, imported only then,
+with every scene node's transform baked in and all parts concatenated.
+
+COLLADA: ``<unit meter>`` is applied (ROS viewers and Gazebo do; trimesh only records it) and
+``<up_axis>`` is ignored (rviz and Gazebo drop the up-axis rotation), so the estimate matches
+what those tools simulate and show. glTF is taken in metres with no axis conversion.
+
+The integral is the divergence theorem over signed tetrahedra, in float64, with coordinates
+shifted to the bounding-box centre first. A cheap closure test runs on every mesh: over a closed,
+consistently wound surface every edge is used once in each direction, so the antisymmetric edge
+sums Σ p×q and Σ (p+q)⊗(p×q) vanish (to rounding); they also make the integrals independent of
+the reference point. Only a mesh that fails it pays for the topology pass (vertex merge by exact
+bit pattern, edge-use counts, winding propagation), whose result the cache keeps.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from linkcheck.geometry.cache import MeshCache
+from linkcheck.geometry.resolve import Resolution, SearchPaths, resolve_uri
+from linkcheck.geometry.solid import Solid
+from linkcheck.inertia import MassProperties
+from linkcheck.model import Finding
+from linkcheck.settings import DEFAULT
+
+#: Loader names by lower-case extension; the loader is part of the cache key.
+LOADERS = {".stl": "stl", ".obj": "trimesh", ".dae": "dae", ".glb": "trimesh", ".gltf": "trimesh",
+           ".ply": "trimesh", ".off": "trimesh"}
+#: Relative size of the closure residuals below which a surface counts as closed.
+CLOSURE_TOL = 1e-7
+#: Unit factors tried by the units hints: millimetres, centimetres, inches, and the reverse.
+UNIT_FACTORS = (1e-3, 1e-2, 0.0254, 1e3)
+_STL_RECORD = np.dtype([("n", "<f4", (3,)), ("v", "<f4", (3, 3)), ("attr", "<u2")])
+_VERTEX_RE = re.compile(rb"vertex\s+(\S+)\s+(\S+)\s+(\S+)")
+_UNIT_RE = re.compile(rb"<unit\b[^>]*?\bmeter\s*=\s*[\"']([^\"']+)[\"']")
+
+
+class MeshError(Exception):
+    """A mesh that cannot be used; the message is the reason, in words for the user."""
+
+
+@dataclass(frozen=True)
+class MeshEstimate:
+    """What a mesh contributes to its link.
+
+    ``solid`` is at unit density in the mesh frame with the scale applied (None if unusable).
+    ``findings`` carry no link or line (the caller fills them in). ``trusted`` False: do not
+    compare with or fix from this estimate. ``upper_bound``: the solid is the convex hull of an
+    open mesh.
+    """
+
+    solid: Solid | None
+    findings: tuple[Finding, ...]
+    trusted: bool
+    path: Path | None
+    upper_bound: bool = False
+    triangles: int = 0
+    cached: bool = False
+
+
+@dataclass
+class _Result:
+    props: MassProperties | None
+    points: np.ndarray | None
+    findings: list[Finding] = field(default_factory=list)
+    upper_bound: bool = False
+    triangles: int = 0
+
+
+def mesh_estimate(
+    uri: str,
+    base_dir: Path,
+    scale: tuple[float, float, float] = (1.0, 1.0, 1.0),
+    search: SearchPaths | None = None,
+    cache: MeshCache | None = None,
+    *,
+    max_extent: float = DEFAULT.mesh_max_extent,
+    min_extent: float = DEFAULT.mesh_min_extent,
+) -> MeshEstimate:
+    """Resolve, load and integrate one mesh geometry. Never raises for bad input."""
+    try:
+        return _mesh_estimate(uri, Path(base_dir), tuple(float(s) for s in scale), search, cache, max_extent, min_extent)
+    except MeshError as exc:
+        return _unavailable(uri, None, str(exc))
+    except Exception as exc:  # a loader's own bug must not become a traceback for the user
+        return _unavailable(uri, None, f"could not be read ({type(exc).__name__}: {exc})")
+
+
+def _unavailable(uri: str, path: Path | None, reason: str, extra: tuple[Finding, ...] = ()) -> MeshEstimate:
+    where = f" ({path})" if path is not None and str(path) not in uri else ""
+    finding = Finding("mesh-unavailable", "error", f"mesh '{uri}'{where}: {reason}", data={"uri": uri})
+    return MeshEstimate(None, (*extra, finding), False, path)
+
+
+def _mesh_estimate(
+    uri: str,
+    base_dir: Path,
+    scale: tuple[float, ...],
+    search: SearchPaths | None,
+    cache: MeshCache | None,
+    max_extent: float,
+    min_extent: float,
+) -> MeshEstimate:
+    res: Resolution = resolve_uri(uri, base_dir, search)
+    notes: tuple[Finding, ...] = ()
+    if res.note:
+        notes = (Finding("mesh-note", "info", f"mesh '{uri}': {res.note}", data={"uri": uri}),)
+    if res.path is None:
+        tried = "; tried " + ", ".join(res.tried[:6]) + (" ..." if len(res.tried) > 6 else "") if res.tried else ""
+        est = _unavailable(uri, None, f"{res.reason or 'not found'}{tried}")
+        return MeshEstimate(None, est.findings, False, None)
+    path = res.path
+    if len(scale) != 3 or not all(np.isfinite(scale)) or any(s == 0 for s in scale):
+        return _unavailable(uri, path, f"scale {scale} must be three finite, non-zero numbers", notes)
+    ext = path.suffix.lower()
+    loader = LOADERS.get(ext)
+    if loader is None:
+        return _unavailable(uri, path, f"unsupported mesh format '{path.suffix}' (STL, OBJ, DAE, glTF/GLB, PLY, OFF)", notes)
+
+    data: bytes | None = None
+    key = None
+    result: _Result | None = None
+    cached = False
+    if cache is not None:
+        try:
+            digest, data = cache.digest(path)
+        except OSError as exc:
+            return _unavailable(uri, path, f"cannot be read ({exc.strerror or exc})", notes)
+        key = cache.key(digest, scale, loader)  # type: ignore[arg-type]
+        result = _from_payload(cache.get(key))
+        cached = result is not None
+    if result is None:
+        if data is None:
+            try:
+                data = path.read_bytes()
+            except OSError as exc:
+                return _unavailable(uri, path, f"cannot be read ({exc.strerror or exc})", notes)
+        try:
+            result = _compute(data, loader, path, np.array(scale, dtype=float))
+        except MeshError as exc:
+            result = _Result(None, None, [Finding("mesh-unavailable", "error", str(exc))])
+        if cache is not None and key is not None:
+            cache.put(key, _to_payload(result))
+
+    findings = [*notes, *(_with_uri(f, uri, path) for f in result.findings)]
+    if result.props is None or result.points is None:
+        return MeshEstimate(None, tuple(findings), False, path, triangles=result.triangles, cached=cached)
+    solid = Solid(result.props, result.points)
+    units = _units_finding(uri, result.points, scale, max_extent, min_extent)
+    if units is not None:
+        findings.append(units)
+    return MeshEstimate(solid, tuple(findings), units is None, path, result.upper_bound, result.triangles, cached)
+
+
+def _with_uri(f: Finding, uri: str, path: Path) -> Finding:
+    where = f" ({path})" if str(path) not in uri else ""
+    return Finding(f.rule, f.severity, f"mesh '{uri}'{where}: {f.message}", data={**f.data, "uri": uri})
+
+
+# --------------------------------------------------------------------------- loading
+
+
+def load_triangles(data: bytes, loader: str, path: Path) -> np.ndarray:
+    """(n, 3, 3) triangle corners in file units (metres for DAE after ``<unit meter>``)."""
+    if loader == "stl":
+        return _read_stl(data)
+    tris = _read_with_trimesh(path, data)
+    if loader == "dae":
+        match = _UNIT_RE.search(data)
+        if match:
+            try:
+                unit = float(match.group(1))
+            except ValueError:
+                raise MeshError(f"COLLADA <unit meter=\"{match.group(1).decode(errors='replace')}\"> is not a number") from None
+            if not np.isfinite(unit) or unit <= 0:
+                raise MeshError(f"COLLADA <unit meter> must be positive (got {unit})")
+            tris = tris * unit
+    return tris
+
+
+def _read_stl(data: bytes) -> np.ndarray:
+    size = len(data)
+    count = int(np.frombuffer(data, "<u4", 1, 80)[0]) if size >= 84 else -1
+    if count >= 0 and 84 + 50 * count == size:
+        return np.frombuffer(data, _STL_RECORD, count, 84)["v"]
+    head = data[:512].lstrip()
+    if head[:5].lower() == b"solid" and (b"facet" in data[:4096] or b"endsolid" in data[-512:]):
+        found = _VERTEX_RE.findall(data)
+        if len(found) % 3:
+            raise MeshError(f"ASCII STL has {len(found)} vertices, not a multiple of 3")
+        try:
+            return np.array(found, dtype=float).reshape(-1, 3, 3)
+        except ValueError as exc:
+            raise MeshError(f"ASCII STL has a vertex that is not a number ({exc})") from None
+    if count > 0 and size > 84 + 50 * count:
+        return np.frombuffer(data, _STL_RECORD, count, 84)["v"]
+    if size < 84:
+        raise MeshError(f"not an STL file ({size} bytes: too short for binary, no 'solid' header)")
+    raise MeshError(f"binary STL is truncated: header says {count} triangles ({84 + 50 * count} bytes), file has {size}")
+
+
+def _read_with_trimesh(path: Path, data: bytes) -> np.ndarray:
+    import io
+    import logging
+
+    import trimesh
+
+    logging.getLogger("trimesh").setLevel(logging.ERROR)
+    ext = path.suffix.lower().lstrip(".")
+    try:
+        if ext == "gltf":
+            scene = trimesh.load_scene(str(path), process=False)  # external buffers sit beside it
+        else:
+            scene = trimesh.load_scene(io.BytesIO(data), file_type=ext, process=False)
+    except ImportError as exc:
+        raise MeshError(f"needs an optional package to read '.{ext}' ({exc})") from None
+    except Exception as exc:
+        raise MeshError(f"corrupt or unreadable '.{ext}' file ({type(exc).__name__}: {exc})") from None
+    parts = []
+    for node in scene.graph.nodes_geometry:
+        transform, geom_name = scene.graph[node]
+        geom = scene.geometry.get(geom_name)
+        if geom is None or not hasattr(geom, "faces") or len(geom.faces) == 0:
+            continue
+        tris = np.asarray(geom.vertices, dtype=float)[np.asarray(geom.faces)]
+        transform = np.asarray(transform, dtype=float)
+        tris = tris @ transform[:3, :3].T + transform[:3, 3]
+        if np.linalg.det(transform[:3, :3]) < 0:
+            tris = tris[:, [0, 2, 1]]
+        parts.append(tris)
+    if not parts:
+        raise MeshError("the file holds no triangles")
+    return np.concatenate(parts)
+
+
+# --------------------------------------------------------------------------- integration
+
+
+@dataclass(frozen=True)
+class _Integral:
+    volume: float
+    com: np.ndarray  # absolute
+    second: np.ndarray  # covariance about the com, ∫ r r^T dV
+    area: float  # twice the total area
+    closure: float  # relative closure residual (0 for a closed, consistently wound surface)
+
+
+def integrate(cols: np.ndarray, origin: np.ndarray, radius: float) -> _Integral:
+    """Signed-tetrahedron integrals over corners ``cols[k, j, i]`` (coordinate k of corner j of
+    triangle i, float64, already shifted by ``origin``); ``radius`` bounds |corner|."""
+    a, b, c = cols[:, 0], cols[:, 1], cols[:, 2]
+    ab, bc, ca = _cross(a, b), _cross(b, c), _cross(c, a)
+    d = np.einsum("ij,ij->j", a, bc)
+    vol = float(d.sum()) / 6.0
+    s = a + b + c
+    first = (s @ d) / 24.0
+    cov = sum(np.einsum("ij,kj->ik", x * d, x) for x in (a, b, c, s)) / 120.0
+    normals = ab + bc + ca
+    area2 = float(np.sqrt(np.einsum("ij,ij->j", normals, normals)).sum())
+    moment = sum(np.einsum("ij,kj->ik", p + q, pq) for p, q, pq in ((a, b, ab), (b, c, bc), (c, a, ca)))
+    scale = max(area2, 1e-300)
+    closure = max(float(np.linalg.norm(normals.sum(axis=1))) / scale, float(np.linalg.norm(moment)) / (scale * max(radius, 1e-300)))
+    if vol != 0.0:
+        com_local = first / vol
+        second = cov - vol * np.outer(com_local, com_local)
+    else:
+        com_local = np.zeros(3)
+        second = cov
+    return _Integral(vol, com_local + origin, second, area2, closure)
+
+
+def _cross(u: np.ndarray, v: np.ndarray) -> np.ndarray:
+    out = np.empty_like(u)
+    tmp = np.empty_like(u[0])
+    for k, (i, j) in enumerate(((1, 2), (2, 0), (0, 1))):
+        np.multiply(u[i], v[j], out=out[k])
+        np.multiply(u[j], v[i], out=tmp)
+        out[k] -= tmp
+    return out
+
+
+def to_columns(tris: np.ndarray) -> np.ndarray:
+    """(n, 3, 3) corners -> contiguous float64 (3 coordinates, 3 corners, n): every later pass is a straight sweep."""
+    return np.ascontiguousarray(np.asarray(tris).transpose(2, 1, 0), dtype=np.float64)
+
+
+def _props(it: _Integral, sign: float = 1.0) -> MassProperties:
+    second = it.second * sign
+    inertia = np.trace(second) * np.eye(3) - second
+    return MassProperties(it.volume * sign, it.com.copy(), 0.5 * (inertia + inertia.T))
+
+
+def _extreme_points(x: np.ndarray, y: np.ndarray, z: np.ndarray) -> np.ndarray:
+    """Vertices extreme along the 3 axes and 4 cube diagonals (both ways), plus the farthest from the
+    reference point: a cheap subset of the hull's vertices, exact for the bounding box."""
+    idx = [x.argmin(), x.argmax(), y.argmin(), y.argmax(), z.argmin(), z.argmax()]
+    for combo in (x + y + z, x + y - z, x - y + z, y + z - x):
+        idx += [combo.argmin(), combo.argmax()]
+    idx.append((x * x + y * y + z * z).argmax())
+    sel = np.unique(np.array(idx))
+    return np.stack((x[sel], y[sel], z[sel]), axis=1)
+
+
+def _compute(data: bytes, loader: str, path: Path, scale: np.ndarray) -> _Result:
+    raw = load_triangles(data, loader, path)
+    n = len(raw)
+    if n == 0:
+        raise MeshError("the file holds no triangles")
+    cols = to_columns(raw)
+    del raw
+    flat = cols.reshape(3, -1)
+    for k in range(3):
+        flat[k] *= scale[k]
+    lo, hi = flat.min(axis=1), flat.max(axis=1)
+    if not (np.isfinite(lo).all() and np.isfinite(hi).all()):
+        bad = int((~np.isfinite(cols).all(axis=(0, 1))).sum())
+        raise MeshError(f"{bad} of {n} triangles have non-finite coordinates (nan/inf)")
+    origin = 0.5 * (lo + hi)
+    for k in range(3):
+        flat[k] -= origin[k]
+    if np.prod(np.sign(scale)) < 0:
+        cols = cols[:, [0, 2, 1]]  # mirroring flips orientation; re-wind to keep the outside out
+    extent = hi - lo
+    if np.count_nonzero(extent > 1e-12 * max(float(extent.max()), 1e-300)) < 3:
+        raise MeshError(f"the mesh is flat (extents {_fmt_vec(extent)} m): it encloses no volume")
+    radius = 0.5 * float(np.linalg.norm(extent))
+    it = integrate(cols, origin, radius)
+    findings: list[Finding] = []
+    points = _extreme_points(*cols.reshape(3, -1)) + origin
+    flat_tol = 1e-9 * it.area * radius
+    if it.closure <= CLOSURE_TOL and abs(it.volume) > flat_tol:
+        return _closed_result(it, points, n, findings)
+    if it.closure <= CLOSURE_TOL:
+        raise MeshError(f"the surface encloses no volume (signed volume {it.volume:.3g} m^3 over extents {_fmt_vec(extent)} m)")
+    return _repair(cols, origin, radius, points, n)
+
+
+def _fmt_vec(v: np.ndarray) -> str:
+    return "(" + ", ".join(f"{x:.4g}" for x in v) + ")"
+
+
+# --------------------------------------------------------------------------- repair
+
+
+@dataclass(frozen=True)
+class Topology:
+    """Edge-use counts of a mesh after merging vertices with identical coordinates."""
+
+    faces: np.ndarray  # (m, 3) merged vertex ids of the non-degenerate faces
+    keep: np.ndarray  # indices of those faces in the input
+    open_edges: int  # edges used by an odd number of faces (holes)
+    inconsistent_edges: int  # edges used twice in the same direction (winding flips)
+    nonmanifold_edges: int
+
+
+def topology(tris: np.ndarray) -> Topology:
+    """Merge vertices by exact bit pattern (+0.0 first, so -0.0 joins 0.0) and count edge uses."""
+    verts = np.ascontiguousarray(tris.reshape(-1, 3), dtype=np.float64) + 0.0
+    bits = verts.view(np.uint64).reshape(-1, 3)
+    order = np.lexsort((bits[:, 2], bits[:, 1], bits[:, 0]))
+    sb = bits[order]
+    new = np.ones(len(sb), dtype=bool)
+    new[1:] = (sb[1:] != sb[:-1]).any(axis=1)
+    ids = np.empty(len(sb), dtype=np.int64)
+    ids[order] = np.cumsum(new) - 1
+    faces = ids.reshape(-1, 3)
+    keep = np.flatnonzero((faces[:, 0] != faces[:, 1]) & (faces[:, 1] != faces[:, 2]) & (faces[:, 2] != faces[:, 0]))
+    faces = faces[keep]
+    key, sign, _ = _edges(faces)
+    order = np.argsort(key, kind="stable")
+    sk, ss = key[order], sign[order]
+    starts = np.flatnonzero(np.r_[True, sk[1:] != sk[:-1]])
+    counts = np.diff(np.r_[starts, len(sk)])
+    sums = np.add.reduceat(ss, starts) if len(starts) else np.zeros(0, dtype=np.int64)
+    odd = counts % 2 == 1
+    return Topology(faces, keep, int(odd.sum()), int(((~odd) & (sums != 0)).sum()), int((counts > 2).sum()))
+
+
+def _edges(faces: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Undirected edge keys, direction signs and owning face of the 3 edges of every face."""
+    u = faces.ravel()
+    v = np.roll(faces, -1, axis=1).ravel()
+    lo, hi = np.minimum(u, v), np.maximum(u, v)
+    key = (lo.astype(np.uint64) << np.uint64(32)) | hi.astype(np.uint64)
+    sign = np.where(u < v, 1, -1).astype(np.int64)
+    owner = np.repeat(np.arange(len(faces)), 3)
+    return key, sign, owner
+
+
+def orient(faces: np.ndarray) -> np.ndarray | None:
+    """Flags of the faces to flip so every two-face edge is used once each way, or None if impossible.
+
+    Each connected patch keeps the orientation most of its faces already had.
+    """
+    from scipy.sparse import coo_matrix
+    from scipy.sparse.csgraph import breadth_first_order, connected_components
+
+    m = len(faces)
+    key, sign, owner = _edges(faces)
+    order = np.argsort(key, kind="stable")
+    sk = key[order]
+    starts = np.flatnonzero(np.r_[True, sk[1:] != sk[:-1]])
+    counts = np.diff(np.r_[starts, len(sk)])
+    pair = starts[counts == 2]
+    f1, f2 = owner[order[pair]], owner[order[pair + 1]]
+    same = (sign[order[pair]] == sign[order[pair + 1]]).astype(np.int8)  # 1: neighbours disagree
+    graph = coo_matrix((same.astype(np.float64) + 1.0, (f1, f2)), shape=(m, m)).tocsr()
+    graph = graph + graph.T
+    ncomp, labels = connected_components(graph, directed=False)
+    flip = np.zeros(m, dtype=bool)
+    for comp in range(ncomp):
+        members = np.flatnonzero(labels == comp)
+        if len(members) == 1:
+            continue
+        nodes, pred = breadth_first_order(graph, members[0], directed=False, return_predecessors=True)
+        parity = np.zeros(m, dtype=bool)
+        parent = np.where(pred < 0, np.arange(m), pred)
+        has = pred[nodes] >= 0
+        rel = np.zeros(m, dtype=bool)
+        rel[nodes[has]] = np.asarray(graph[nodes[has], parent[nodes[has]]]).ravel() > 1.5
+        parity[:] = rel
+        jump = parent.copy()
+        for _ in range(int(np.ceil(np.log2(max(len(nodes), 2)))) + 1):
+            parity = parity ^ parity[jump]
+            jump = jump[jump]
+            # the root's parity is False, so repeated XOR through it is harmless
+        comp_flip = parity[members]
+        if comp_flip.sum() * 2 > len(members):
+            comp_flip = ~comp_flip
+        flip[members] = comp_flip
+    sign2 = np.where(flip[owner], -sign, sign)  # flipping a face reverses its three edges
+    sums = np.add.reduceat(sign2[order], starts)
+    if np.any((counts == 2) & (sums != 0)):
+        return None
+    return flip
+
+
+def _repair(cols: np.ndarray, origin: np.ndarray, radius: float, points: np.ndarray, n: int) -> _Result:
+    tris = cols.transpose(2, 1, 0)
+    topo = topology(tris)
+    findings: list[Finding] = []
+    if topo.open_edges == 0 and topo.inconsistent_edges == 0:
+        return _closed_result(integrate(to_columns(tris[topo.keep]), origin, radius), points, n, findings)
+    if topo.open_edges == 0:
+        flip = orient(topo.faces)
+        if flip is not None:
+            fixed = tris[topo.keep].copy()
+            fixed[flip] = fixed[flip][:, [0, 2, 1]]
+            it = integrate(to_columns(fixed), origin, radius)
+            if it.closure <= CLOSURE_TOL * 10:
+                flipped = int(flip.sum())
+                findings.append(Finding("mesh-inside-out", "info",
+                                        f"{flipped} of {n} triangles were wound against their neighbours; "
+                                        f"re-oriented consistently before integrating", data={"reoriented": flipped}))
+                return _closed_result(it, points, n, findings)
+        why = f"{topo.inconsistent_edges} edges where the winding flips and cannot be made consistent"
+    else:
+        why = f"{topo.open_edges} open edges (holes)"
+    hull = _hull(tris.reshape(-1, 3) + origin)
+    if hull is None:
+        raise MeshError(f"the mesh has {why} and its convex hull is flat")
+    hull_props, hull_points = hull
+    findings.append(Finding("mesh-not-watertight", "warning",
+                            f"the mesh has {why}; volume {hull_props.mass:.6g} m^3 and inertia come from its convex hull, "
+                            f"an upper bound on the real solid",
+                            data={"open_edges": topo.open_edges, "inconsistent_edges": topo.inconsistent_edges,
+                                  "upper_bound": True}))
+    return _Result(hull_props, hull_points, findings, True, n)
+
+
+def _closed_result(it: _Integral, points: np.ndarray, n: int, findings: list[Finding]) -> _Result:
+    if it.volume < 0:
+        findings.append(Finding("mesh-inside-out", "info",
+                                f"the surface is wound inward (signed volume {it.volume:.6g} m^3); integrated with flipped orientation",
+                                data={"signed_volume": it.volume}))
+        return _Result(_props(it, -1.0), points, findings, False, n)
+    return _Result(_props(it), points, findings, False, n)
+
+
+def _hull(verts: np.ndarray) -> tuple[MassProperties, np.ndarray] | None:
+    """Mass properties of the convex hull (scipy's qhull), simplices wound outward."""
+    from scipy.spatial import ConvexHull, QhullError
+
+    pts = np.unique(verts, axis=0)
+    if len(pts) < 4:
+        return None
+    origin = 0.5 * (pts.min(axis=0) + pts.max(axis=0))
+    try:
+        hull = ConvexHull(pts - origin)
+    except (QhullError, ValueError):
+        return None
+    tri = hull.points[hull.simplices]
+    normal = np.cross(tri[:, 1] - tri[:, 0], tri[:, 2] - tri[:, 0])
+    inward = np.einsum("ij,ij->i", normal, hull.equations[:, :3]) < 0
+    tri[inward] = tri[inward][:, [0, 2, 1]]
+    it = integrate(to_columns(tri), origin, float(np.abs(tri).max()) * 3**0.5)
+    if it.volume <= 0:
+        return None
+    return _props(it), hull.points[hull.vertices] + origin
+
+
+# --------------------------------------------------------------------------- units
+
+
+def _units_finding(uri: str, points: np.ndarray, scale: tuple[float, ...], max_extent: float, min_extent: float) -> Finding | None:
+    extent = float((points.max(axis=0) - points.min(axis=0)).max())
+    if min_extent <= extent <= max_extent:
+        return None
+    factor = 1e-3 if extent > max_extent else 1e3
+    for f in (UNIT_FACTORS if extent > max_extent else UNIT_FACTORS[::-1]):
+        if (f < 1) == (extent > max_extent) and min_extent <= extent * f <= max_extent:
+            factor = f
+            break
+    new = " ".join(f"{s * factor:.6g}" for s in scale)
+    kind = "larger than" if extent > max_extent else "smaller than"
+    hint = "millimetres or other small units read as metres" if extent > max_extent else "a unit scale applied twice or a mesh in metres scaled as millimetres"
+    return Finding(
+        "mesh-units-suspect",
+        "warning",
+        f"mesh '{uri}' is {extent:.4g} m across after scale, {kind} {max_extent if extent > max_extent else min_extent:g} m "
+        f"(looks like {hint}); scale=\"{new}\" would make it {extent * factor:.4g} m",
+        data={"uri": uri, "extent": extent, "factor": factor, "scale": [s * factor for s in scale]},
+    )
+
+
+def suggest_scale(volume: float, mass: float, density_range: tuple[float, float] = (DEFAULT.density_min, DEFAULT.density_max)) -> float | None:
+    """A length factor (1e-3, 1e-2, 0.0254 or 1e3) that brings mass/volume into ``density_range``.
+
+    None when the density is already plausible or no single unit factor explains it.
+    """
+    lo, hi = density_range
+    if not (volume > 0 and mass > 0):
+        return None
+    if lo <= mass / volume <= hi:
+        return None
+    for f in UNIT_FACTORS:
+        if lo <= mass / (volume * f**3) <= hi:
+            return f
+    return None
+
+
+# --------------------------------------------------------------------------- cache payloads
+
+
+def _to_payload(r: _Result) -> dict[str, Any]:
+    solid = None
+    if r.props is not None and r.points is not None:
+        solid = {"volume": r.props.mass, "com": r.props.com.tolist(), "inertia": r.props.inertia.tolist(), "points": r.points.tolist()}
+    return {
+        "solid": solid,
+        "findings": [[f.rule, f.severity, f.message, f.data] for f in r.findings],
+        "upper_bound": r.upper_bound,
+        "triangles": r.triangles,
+    }
+
+
+def _from_payload(p: dict[str, Any] | None) -> _Result | None:
+    if p is None:
+        return None
+    try:
+        findings = [Finding(str(rule), sev, str(msg), data=dict(data)) for rule, sev, msg, data in p["findings"]]
+        s = p["solid"]
+        if s is None:
+            return _Result(None, None, findings, bool(p["upper_bound"]), int(p["triangles"]))
+        com = np.array(s["com"], dtype=float).reshape(3)
+        inertia = np.array(s["inertia"], dtype=float).reshape(3, 3)
+        points = np.array(s["points"], dtype=float).reshape(-1, 3)
+        if not (np.isfinite(com).all() and np.isfinite(inertia).all() and len(points)):
+            return None
+        return _Result(MassProperties(float(s["volume"]), com, inertia), points, findings, bool(p["upper_bound"]), int(p["triangles"]))
+    except (KeyError, TypeError, ValueError):
+        return None

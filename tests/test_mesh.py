@@ -1,0 +1,425 @@
+"""Mesh loading, exact integration and repair, checked against outside references.
+
+References named beside each check: trimesh's ``Trimesh.mass_properties`` (reference library),
+mujoco's exact mesh inertia (physics engine), handbook closed forms (the "list of moments of
+inertia" table of a physics handbook, from memory: box m(b²+c²)/12, cylinder m(3r²+h²)/12 and
+mr²/2, sphere 2mr²/5), elementary polygon geometry (area of a regular n-gon inscribed in a
+circle of radius r is (n/2) r² sin(2π/n)), and the formats' own specs (binary STL layout,
+COLLADA <unit meter>).
+"""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+import textwrap
+from pathlib import Path
+
+import numpy as np
+import pytest
+import trimesh
+
+from linkcheck.geometry.mesh import mesh_estimate, suggest_scale
+from linkcheck.geometry.resolve import SearchPaths
+
+NO_ENV = SearchPaths(env={})
+
+
+def write_binary_stl(path: Path, tris: np.ndarray, header: bytes = b"\0" * 80) -> Path:
+    """Binary STL per its published layout: 80-byte header, uint32 count, 50-byte records."""
+    tris = np.asarray(tris, dtype="<f4").reshape(-1, 3, 3)
+    rec = np.zeros(len(tris), dtype=[("n", "<f4", (3,)), ("v", "<f4", (3, 3)), ("attr", "<u2")])
+    rec["v"] = tris
+    path.write_bytes(header[:80].ljust(80, b"\0") + np.uint32(len(tris)).tobytes() + rec.tobytes())
+    return path
+
+
+def f32_mesh(mesh: trimesh.Trimesh) -> trimesh.Trimesh:
+    """The triangle soup a binary STL actually stores (float32 corners), for like-for-like references."""
+    tris = mesh.triangles.astype(np.float32).astype(np.float64)
+    return trimesh.Trimesh(vertices=tris.reshape(-1, 3), faces=np.arange(len(tris) * 3).reshape(-1, 3), process=False)
+
+
+def estimate(path: Path, scale=(1.0, 1.0, 1.0)):
+    return mesh_estimate(path.name, path.parent, scale, NO_ENV, None)
+
+
+def assert_matches_trimesh(est, ref: trimesh.Trimesh, rtol: float = 1e-9) -> None:
+    props = est.solid.props
+    assert props.mass == pytest.approx(ref.volume, rel=rtol)
+    scale = np.linalg.norm(ref.extents)
+    assert np.allclose(props.com, ref.center_mass, rtol=0, atol=rtol * scale)
+    # trimesh.moment_inertia: about the centre of mass, mesh axes, tensor entries (-∫xy)
+    assert np.allclose(props.inertia, ref.moment_inertia, rtol=0, atol=rtol * np.abs(ref.moment_inertia).max())
+
+
+SHAPES = {
+    "box": lambda: trimesh.creation.box((0.3, 0.5, 0.7)),
+    "cylinder": lambda: trimesh.creation.cylinder(radius=0.1, height=0.4, sections=64),
+    "icosphere": lambda: trimesh.creation.icosphere(subdivisions=3, radius=0.25),
+    "annulus": lambda: trimesh.creation.annulus(r_min=0.05, r_max=0.12, height=0.2, sections=48),
+}
+
+
+@pytest.mark.parametrize("name", sorted(SHAPES))
+def test_integral_matches_trimesh(tmp_path: Path, name: str) -> None:
+    mesh = SHAPES[name]()
+    # an off-origin, rotated pose, so products of inertia and the COM are all non-trivial
+    transform = trimesh.transformations.euler_matrix(0.3, -0.7, 1.1)
+    transform[:3, 3] = (0.4, -1.2, 2.5)
+    mesh.apply_transform(transform)
+    est = estimate(write_binary_stl(tmp_path / f"{name}.stl", mesh.triangles))
+    assert est.trusted and not est.findings
+    assert_matches_trimesh(est, f32_mesh(mesh))
+
+
+def test_box_matches_handbook_exactly(tmp_path: Path) -> None:
+    a, b, c = 0.5, 0.25, 2.0  # binary fractions: exact in float32
+    est = estimate(write_binary_stl(tmp_path / "box.stl", trimesh.creation.box((a, b, c)).triangles))
+    v = a * b * c
+    # handbook table: box Ixx = m(b²+c²)/12 ...
+    expected = np.diag([v * (b * b + c * c) / 12, v * (a * a + c * c) / 12, v * (a * a + b * b) / 12])
+    assert est.solid.volume == pytest.approx(v, rel=1e-12)
+    assert np.allclose(est.solid.props.inertia, expected, rtol=0, atol=1e-12 * expected.max())
+
+
+def test_cylinder_within_tessellation_bound(tmp_path: Path) -> None:
+    r, h, n = 0.1, 0.4, 128
+    est = estimate(write_binary_stl(tmp_path / "cyl.stl", trimesh.creation.cylinder(radius=r, height=h, sections=n).triangles))
+    # the mesh is the prism over a regular n-gon inscribed in the circle: area (n/2) r² sin(2π/n)
+    assert est.solid.volume == pytest.approx(0.5 * n * r * r * np.sin(2 * np.pi / n) * h, rel=1e-6)
+    v = np.pi * r * r * h
+    deficit = 1 - np.cos(np.pi / n)  # radial deficit of an inscribed polygon's edge midpoints
+    ixx, izz = v * (3 * r * r + h * h) / 12, v * r * r / 2  # handbook cylinder
+    inertia = est.solid.props.inertia
+    assert izz * (1 - 4 * deficit) <= inertia[2, 2] <= izz
+    assert ixx * (1 - 4 * deficit) <= inertia[0, 0] <= ixx
+    assert abs(inertia[0, 0] - inertia[1, 1]) <= 1e-6 * ixx
+
+
+def test_sphere_between_inscribed_and_circumscribed(tmp_path: Path) -> None:
+    r = 0.3
+    mesh = trimesh.creation.icosphere(subdivisions=4, radius=r)
+    est = estimate(write_binary_stl(tmp_path / "s.stl", mesh.triangles))
+    # all vertices on the sphere, so the solid lies between the sphere of radius r and the one
+    # tangent to its nearest face plane: both bounds from the handbook sphere (V = 4/3 π r³, I = 2/5 m r²)
+    normals = mesh.face_normals
+    r_in = float(np.min(np.einsum("ij,ij->i", normals, mesh.triangles[:, 0])))
+    for rr, cmp in ((r_in, np.greater_equal), (r, np.less_equal)):
+        v = 4 / 3 * np.pi * rr**3
+        assert cmp(est.solid.volume, v * (1 - 1e-6) if cmp is np.greater_equal else v * (1 + 1e-6))
+        assert np.all(cmp(np.linalg.eigvalsh(est.solid.props.inertia), 0.4 * v * rr * rr * (1 - 1e-6 if cmp is np.greater_equal else 1 + 1e-6)))
+
+
+def test_matches_mujoco_exact_mesh_inertia(tmp_path: Path) -> None:
+    mujoco = pytest.importorskip("mujoco")
+    mesh = trimesh.creation.torus(major_radius=0.2, minor_radius=0.05, major_sections=48, minor_sections=24)
+    mesh.apply_transform(trimesh.transformations.euler_matrix(0.2, 0.4, 0.6))
+    mesh.apply_translation((0.1, 0.2, 0.3))
+    path = write_binary_stl(tmp_path / "torus.stl", mesh.triangles)
+    xml = f"""<mujoco><compiler meshdir="{tmp_path}"/>
+      <asset><mesh name="t" file="torus.stl" inertia="exact"/></asset>
+      <worldbody><body><freejoint/><geom type="mesh" mesh="t" density="1"/></body></worldbody></mujoco>"""
+    model = mujoco.MjModel.from_xml_string(xml)
+    est = estimate(path)
+    # mujoco reports the body's mass (= volume at density 1) and principal moments
+    assert est.solid.volume == pytest.approx(model.body_mass[1], rel=1e-6)
+    ours = np.sort(np.linalg.eigvalsh(est.solid.props.inertia))
+    assert np.allclose(ours, np.sort(model.body_inertia[1]), rtol=1e-6)
+
+
+def test_far_from_origin_keeps_precision(tmp_path: Path) -> None:
+    mesh = trimesh.creation.torus(major_radius=0.13, minor_radius=0.04, major_sections=64, minor_sections=32)
+    near = tmp_path / "near.obj"
+    far = tmp_path / "far.obj"
+    near.write_text(trimesh.exchange.obj.export_obj(mesh, digits=17))
+    moved = mesh.copy()
+    moved.apply_translation((1e5, -1e5, 0.0))
+    far.write_text(trimesh.exchange.obj.export_obj(moved, digits=17))
+    a, b = estimate(near), estimate(far)
+    # the central inertia tensor does not depend on where the body sits (translation invariance);
+    # the reference is trimesh on the mesh at the origin, where it is accurate (LIBRARIES.md §1.3)
+    assert_matches_trimesh(a, mesh, rtol=1e-9)
+    assert np.allclose(b.solid.props.inertia, mesh.moment_inertia, rtol=0, atol=1e-8 * np.abs(mesh.moment_inertia).max())
+    assert np.allclose(b.solid.props.com, mesh.center_mass + (1e5, -1e5, 0.0), rtol=0, atol=1e-9)
+
+
+# --------------------------------------------------------------------------- loaders
+
+
+def test_ascii_stl_and_upper_case_extension(tmp_path: Path) -> None:
+    mesh = trimesh.creation.icosphere(subdivisions=2, radius=0.2)
+    path = tmp_path / "BALL.STL"
+    path.write_text(trimesh.exchange.stl.export_stl_ascii(mesh))
+    est = estimate(path)
+    ref = trimesh.load_mesh(path, process=False)  # trimesh's own ASCII STL reader as the reference
+    assert_matches_trimesh(est, ref)
+
+
+def test_binary_stl_whose_header_starts_with_solid(tmp_path: Path) -> None:
+    # binary is told by 84 + 50 n == size, not by the first word (Bourke's STL notes)
+    mesh = trimesh.creation.box((1, 2, 3))
+    est = estimate(write_binary_stl(tmp_path / "solid.stl", mesh.triangles, header=b"solid exported by a CAD tool"))
+    assert est.solid.volume == pytest.approx(6.0, rel=1e-12)
+
+
+def test_obj_with_quads(tmp_path: Path) -> None:
+    path = tmp_path / "cube.obj"
+    # a unit cube written with quads, as many exporters do; trimesh triangulates
+    path.write_text(textwrap.dedent("""\
+        v 0 0 0
+        v 1 0 0
+        v 1 1 0
+        v 0 1 0
+        v 0 0 1
+        v 1 0 1
+        v 1 1 1
+        v 0 1 1
+        f 1 4 3 2
+        f 5 6 7 8
+        f 1 2 6 5
+        f 2 3 7 6
+        f 3 4 8 7
+        f 4 1 5 8
+        """))
+    est = estimate(path)
+    assert est.solid.volume == pytest.approx(1.0, rel=1e-12)
+    assert np.allclose(est.solid.props.com, 0.5)
+    assert np.allclose(est.solid.props.inertia, np.eye(3) / 6)  # handbook cube: m(1+1)/12
+
+
+def test_ply(tmp_path: Path) -> None:
+    mesh = trimesh.creation.cylinder(radius=0.2, height=0.3, sections=32)
+    path = tmp_path / "c.ply"
+    path.write_bytes(trimesh.exchange.ply.export_ply(mesh))
+    assert_matches_trimesh(estimate(path), trimesh.load_mesh(path, process=False))  # same float32 file
+
+
+def test_glb_scene_transforms_are_baked(tmp_path: Path) -> None:
+    scene = trimesh.Scene()
+    box = trimesh.creation.box((1, 1, 1))
+    for x in (0.0, 2.0, 4.0):
+        scene.add_geometry(box, transform=trimesh.transformations.translation_matrix((x, 1.0, 0.0)))
+    path = tmp_path / "three.glb"
+    path.write_bytes(scene.export(file_type="glb"))
+    est = estimate(path)
+    # three unit cubes: volume 3, centroid at their mean position
+    assert est.solid.volume == pytest.approx(3.0, rel=1e-9)
+    assert np.allclose(est.solid.props.com, (2.0, 1.0, 0.0))
+    ref = trimesh.util.concatenate([box.copy().apply_translation((x, 1.0, 0.0)) for x in (0.0, 2.0, 4.0)])
+    assert_matches_trimesh(est, ref, rtol=1e-6)  # GLB stores float32
+
+
+DAE = """<?xml version="1.0" encoding="utf-8"?>
+<COLLADA xmlns="http://www.collada.org/2005/11/COLLADASchema" version="1.4.1">
+  <asset><unit name="{name}" meter="{meter}"/><up_axis>{up}</up_axis></asset>
+  <library_geometries><geometry id="g"><mesh>
+    <source id="p"><float_array id="pa" count="24">{coords}</float_array>
+      <technique_common><accessor source="#pa" count="8" stride="3">
+        <param name="X" type="float"/><param name="Y" type="float"/><param name="Z" type="float"/>
+      </accessor></technique_common></source>
+    <vertices id="v"><input semantic="POSITION" source="#p"/></vertices>
+    <triangles count="12"><input semantic="VERTEX" source="#v" offset="0"/>
+      <p>0 2 1 0 3 2 4 5 6 4 6 7 0 1 5 0 5 4 1 2 6 1 6 5 2 3 7 2 7 6 3 0 4 3 4 7</p></triangles>
+  </mesh></geometry></library_geometries>
+  <library_visual_scenes><visual_scene id="s"><node id="n">
+    <instance_geometry url="#g"/></node></visual_scene></library_visual_scenes>
+  <scene><instance_visual_scene url="#s"/></scene>
+</COLLADA>
+"""
+
+
+def box_dae(path: Path, size: tuple[float, float, float], meter: float, up: str = "Z_UP") -> Path:
+    x, y, z = size
+    corners = [(0, 0, 0), (x, 0, 0), (x, y, 0), (0, y, 0), (0, 0, z), (x, 0, z), (x, y, z), (0, y, z)]
+    coords = " ".join(f"{c:g}" for p in corners for c in p)
+    path.write_text(DAE.format(name="unit", meter=meter, up=up, coords=coords))
+    return path
+
+
+def test_dae_unit_is_applied(tmp_path: Path) -> None:
+    pytest.importorskip("collada")
+    # COLLADA 1.4 <unit meter="0.001">: coordinates are millimetres
+    est = estimate(box_dae(tmp_path / "mm.DAE", (100, 200, 300), 0.001))
+    assert est.solid.volume == pytest.approx(0.1 * 0.2 * 0.3, rel=1e-9)
+    assert est.trusted
+    ext = est.solid.points.max(axis=0) - est.solid.points.min(axis=0)
+    assert np.allclose(ext, (0.1, 0.2, 0.3))
+
+
+def test_dae_up_axis_is_ignored(tmp_path: Path) -> None:
+    pytest.importorskip("collada")
+    # ROS viewers and Gazebo drop the up-axis rotation (FORMATS.md §4): Y_UP must not rotate the box
+    z = estimate(box_dae(tmp_path / "z.dae", (1, 2, 3), 1.0, "Z_UP"))
+    y = estimate(box_dae(tmp_path / "y.dae", (1, 2, 3), 1.0, "Y_UP"))
+    assert np.allclose(z.solid.props.inertia, y.solid.props.inertia)
+    assert np.allclose(y.solid.props.com, (0.5, 1.0, 1.5))
+
+
+# --------------------------------------------------------------------------- scale
+
+
+def test_non_uniform_scale(tmp_path: Path) -> None:
+    mesh = trimesh.creation.icosphere(subdivisions=2, radius=0.5)
+    mesh.apply_translation((0.3, 0.1, -0.2))
+    path = write_binary_stl(tmp_path / "e.stl", mesh.triangles)
+    est = estimate(path, (2.0, 3.0, 0.5))
+    ref = f32_mesh(mesh)
+    ref.apply_transform(np.diag([2.0, 3.0, 0.5, 1.0]))  # scale about the mesh origin (rviz semantics)
+    assert_matches_trimesh(est, ref)
+
+
+def test_mirrored_scale_keeps_positive_volume(tmp_path: Path) -> None:
+    mesh = trimesh.creation.box((1, 2, 3))
+    mesh.apply_translation((1.0, 0.5, 0.25))
+    mesh.apply_transform(trimesh.transformations.euler_matrix(0.1, 0.2, 0.3))
+    path = write_binary_stl(tmp_path / "m.stl", mesh.triangles)
+    est = estimate(path, (-1.0, 1.0, 1.0))
+    ref = f32_mesh(mesh)
+    # trimesh.apply_transform re-winds faces on a negative determinant (LIBRARIES.md §1.2)
+    ref.apply_transform(np.diag([-1.0, 1.0, 1.0, 1.0]))
+    assert ref.volume > 0
+    assert not any(f.rule == "mesh-inside-out" for f in est.findings)
+    assert_matches_trimesh(est, ref)
+
+
+# --------------------------------------------------------------------------- repair and honesty
+
+
+def rules(est) -> list[str]:
+    return [f.rule for f in est.findings]
+
+
+def test_cube_with_a_face_removed_uses_the_hull_as_upper_bound(tmp_path: Path) -> None:
+    cube = trimesh.creation.box((1, 1, 1))
+    cube.apply_translation((3.0, 0.0, 0.0))  # open meshes give origin-dependent garbage: move it away
+    est = estimate(write_binary_stl(tmp_path / "open.stl", cube.triangles[2:]))
+    assert rules(est) == ["mesh-not-watertight"]
+    finding = est.findings[0]
+    assert finding.severity == "warning" and "upper bound" in finding.message
+    assert "4 open edges" in finding.message  # one square face removed: its 4 rim edges are open
+    assert est.upper_bound
+    hull = cube.convex_hull  # trimesh/qhull hull of the same points as the reference
+    assert est.solid.volume == pytest.approx(hull.volume, rel=1e-9)
+    assert np.allclose(est.solid.props.inertia, hull.moment_inertia, atol=1e-9)
+
+
+def test_inverted_cube_is_flipped_and_reported(tmp_path: Path) -> None:
+    cube = trimesh.creation.box((1, 2, 3))
+    ref = cube.copy()
+    cube.invert()
+    est = estimate(write_binary_stl(tmp_path / "inv.stl", cube.triangles))
+    assert rules(est) == ["mesh-inside-out"]
+    assert est.findings[0].severity == "info"
+    assert est.trusted
+    assert_matches_trimesh(est, ref)
+
+
+def test_partly_flipped_winding_is_reoriented(tmp_path: Path) -> None:
+    sphere = trimesh.creation.icosphere(subdivisions=3, radius=1.0)
+    tris = sphere.triangles.copy()
+    tris[::7] = tris[::7][:, [0, 2, 1]]
+    est = estimate(write_binary_stl(tmp_path / "mixed.stl", tris))
+    assert rules(est) == ["mesh-inside-out"]
+    assert f"{len(tris[::7])} of {len(tris)}" in est.findings[0].message
+    assert_matches_trimesh(est, f32_mesh(sphere))
+
+
+def test_millimetre_mesh_is_suspect_and_untrusted(tmp_path: Path) -> None:
+    box = trimesh.creation.box((120.0, 40.0, 30.0))  # a 12 cm part exported in millimetres
+    est = estimate(write_binary_stl(tmp_path / "mm.stl", box.triangles))
+    assert rules(est) == ["mesh-units-suspect"]
+    assert not est.trusted
+    assert 'scale="0.001 0.001 0.001"' in est.findings[0].message
+    fixed = estimate(tmp_path / "mm.stl", (0.001, 0.001, 0.001))
+    assert fixed.trusted and not fixed.findings
+
+
+def test_metre_mesh_scaled_as_millimetres_is_suspect(tmp_path: Path) -> None:
+    box = trimesh.creation.box((0.4, 0.3, 0.2))
+    est = estimate(write_binary_stl(tmp_path / "m.stl", box.triangles), (0.001, 0.001, 0.001))
+    assert rules(est) == ["mesh-units-suspect"] and not est.trusted
+    assert 'scale="1 1 1"' in est.findings[0].message
+
+
+def test_suggest_scale_from_density() -> None:
+    # a 1 kg part whose mesh was read in mm as metres: volume 1e9 too large
+    assert suggest_scale(volume=0.5e-3 * 1e9, mass=1.0) == pytest.approx(1e-3)
+    assert suggest_scale(volume=0.5e-3, mass=1.0) is None  # 2000 kg/m³ is plausible
+    assert suggest_scale(volume=0.5e-12, mass=1.0) == pytest.approx(1e3)
+
+
+@pytest.mark.parametrize(
+    "content, reason",
+    [
+        (b"\0" * 80 + b"\0\0\0\0", "no triangles"),
+        (b"\0" * 80 + np.uint32(10).tobytes() + b"\0" * 100, "truncated"),
+        (b"garbage", "not an STL"),
+        (b"solid x\nfacet normal 0 0 1\nouter loop\nvertex 0 0 zero\nvertex 1 0 0\nvertex 0 1 0\nendloop\nendfacet\nendsolid\n", "not a number"),
+    ],
+)
+def test_broken_stl_is_unavailable(tmp_path: Path, content: bytes, reason: str) -> None:
+    path = tmp_path / "bad.stl"
+    path.write_bytes(content)
+    est = estimate(path)
+    assert est.solid is None and not est.trusted
+    assert rules(est) == ["mesh-unavailable"]
+    assert reason in est.findings[0].message and est.findings[0].severity == "error"
+
+
+def test_flat_mesh_is_unavailable(tmp_path: Path) -> None:
+    tris = np.array([[[0, 0, 0], [1, 0, 0], [0, 1, 0]], [[1, 0, 0], [1, 1, 0], [0, 1, 0]]], dtype=float)
+    est = estimate(write_binary_stl(tmp_path / "flat.stl", tris))
+    assert rules(est) == ["mesh-unavailable"] and "flat" in est.findings[0].message
+
+
+def test_nan_vertices_are_unavailable(tmp_path: Path) -> None:
+    tris = trimesh.creation.box((1, 1, 1)).triangles.copy()
+    tris[3, 1, 2] = np.nan
+    est = estimate(write_binary_stl(tmp_path / "nan.stl", tris))
+    assert rules(est) == ["mesh-unavailable"] and "non-finite" in est.findings[0].message
+
+
+@pytest.mark.parametrize("name", ["bad.glb", "bad.obj", "bad.dae", "bad.ply"])
+def test_corrupt_files_of_other_formats_are_unavailable(tmp_path: Path, name: str) -> None:
+    path = tmp_path / name
+    path.write_bytes(b"\x00\x01 this is not a mesh \xff" * 3)
+    est = estimate(path)
+    assert est.solid is None and rules(est) == ["mesh-unavailable"]
+
+
+def test_unsupported_extension_and_missing_file(tmp_path: Path) -> None:
+    (tmp_path / "a.3ds").write_bytes(b"x")
+    assert "unsupported mesh format" in estimate(tmp_path / "a.3ds").findings[0].message
+    missing = mesh_estimate("meshes/none.stl", tmp_path, (1, 1, 1), NO_ENV, None)
+    assert rules(missing) == ["mesh-unavailable"] and "none.stl" in missing.findings[0].message
+
+
+def test_zero_scale_is_unavailable(tmp_path: Path) -> None:
+    path = write_binary_stl(tmp_path / "b.stl", trimesh.creation.box((1, 1, 1)).triangles)
+    assert rules(estimate(path, (1.0, 0.0, 1.0))) == ["mesh-unavailable"]
+
+
+def test_folder_name_note_becomes_an_info_finding(tmp_path: Path) -> None:
+    pkg = tmp_path / "repo" / "my_robot"
+    (tmp_path / "repo" / ".git").mkdir(parents=True)
+    (pkg / "meshes").mkdir(parents=True)
+    (pkg / "package.xml").write_text("<package><name>my_robot_description</name></package>")
+    write_binary_stl(pkg / "meshes" / "b.stl", trimesh.creation.box((0.1, 0.1, 0.1)).triangles)
+    est = mesh_estimate("package://my_robot/meshes/b.stl", pkg / "urdf", (1, 1, 1), NO_ENV, None)
+    assert est.trusted and [(f.rule, f.severity) for f in est.findings] == [("mesh-note", "info")]
+
+
+def test_binary_stl_path_imports_neither_trimesh_nor_scipy(tmp_path: Path) -> None:
+    path = write_binary_stl(tmp_path / "b.stl", trimesh.creation.icosphere(subdivisions=2).triangles)
+    code = textwrap.dedent(f"""
+        import sys
+        from linkcheck.geometry.mesh import mesh_estimate
+        from linkcheck.geometry.cache import MeshCache
+        est = mesh_estimate({str(path.name)!r}, {str(path.parent)!r}, (1, 1, 1), None, MeshCache({str(tmp_path / 'c')!r}))
+        assert est.trusted, est
+        bad = [m for m in ("trimesh", "scipy") if m in sys.modules]
+        print(",".join(bad))
+        """)
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == ""
