@@ -63,12 +63,17 @@ def rpy_to_matrix(rpy: np.ndarray | tuple[float, float, float]) -> np.ndarray:
 
 
 def matrix_to_rpy(rotation: np.ndarray) -> np.ndarray:
-    """Inverse of :func:`rpy_to_matrix`, robust at pitch = +-90 degrees (yaw set to 0 there)."""
+    """Inverse of :func:`rpy_to_matrix`, robust at pitch = +-90 degrees (yaw set to 0 there).
+
+    Roll is read from what is left after undoing yaw and pitch, so a yaw made
+    imprecise near the singularity is absorbed and the round trip stays exact.
+    """
     r = np.asarray(rotation, dtype=float)
-    pitch = np.arctan2(-r[2, 0], np.hypot(r[0, 0], r[1, 0]))
-    if np.hypot(r[0, 0], r[1, 0]) < 1e-9:
-        return np.array([np.arctan2(-r[1, 2], r[1, 1]), pitch, 0.0])
-    return np.array([np.arctan2(r[2, 1], r[2, 2]), pitch, np.arctan2(r[1, 0], r[0, 0])])
+    c = np.hypot(r[0, 0], r[1, 0])
+    pitch = float(np.arctan2(-r[2, 0], c))
+    yaw = float(np.arctan2(r[1, 0], r[0, 0])) if c > 1e-15 else 0.0
+    rest = rpy_to_matrix((0.0, pitch, yaw)).T @ r
+    return np.array([float(np.arctan2(rest[2, 1], rest[1, 1])), pitch, yaw])
 
 
 def quat_xyzw_to_matrix(q: np.ndarray | tuple[float, float, float, float]) -> np.ndarray:
