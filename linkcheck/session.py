@@ -60,19 +60,26 @@ class Session:
                 files.extend(self._users_of(path))
             else:
                 files.append(path)
+        from linkcheck.report.progress import Progress
+
         results = []
         seen: set[Path] = set()
-        for path in files:
-            key = path.resolve()
-            if key in seen:
-                continue
-            seen.add(key)
-            try:
-                settings = self.settings_for(path)
-                options = RunOptions(fix=self.fix, search=self.search_for(settings, path), cache=self.cache())
-                results.append(run_file(path, settings, options))
-            except OSError as exc:
-                problems.append(f"{path}: cannot read: {exc.strerror or exc}")
+        progress = Progress(len(files))
+        try:
+            for path in files:
+                progress.step(str(path))
+                key = path.resolve()
+                if key in seen:
+                    continue
+                seen.add(key)
+                try:
+                    settings = self.settings_for(path)
+                    options = RunOptions(fix=self.fix, search=self.search_for(settings, path), cache=self.cache())
+                    results.append(run_file(path, settings, options))
+                except OSError as exc:
+                    problems.append(f"{path}: cannot read: {exc.strerror or exc}")
+        finally:
+            progress.close()
         return results, problems
 
     def _users_of(self, mesh: Path) -> list[Path]:
