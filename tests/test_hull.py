@@ -40,6 +40,17 @@ def reference_distance(points: np.ndarray, p: np.ndarray) -> float:
     return min(_triangle_distance(p, *points[s]) for s in hull.simplices)
 
 
+def qp_distance(points: np.ndarray, p: np.ndarray) -> float:
+    """Brute-force QP: min |sum w_i x_i - p| over convex weights, by scipy.optimize.nnls
+    with the sum-to-one row weighted heavily, then renormalised to a true hull point."""
+    from scipy.optimize import nnls
+
+    big = 1e4 * (1.0 + float(np.max(np.abs(points))))
+    a = np.vstack([points.T, np.full(len(points), big)])
+    w = nnls(a, np.append(p, big), maxiter=50 * len(points))[0]
+    return float(np.linalg.norm(w @ points / w.sum() - p))
+
+
 def box_distance(lo: np.ndarray, hi: np.ndarray, p: np.ndarray) -> float:
     """Closed form: the norm of the per-axis excess outside the box."""
     return float(np.linalg.norm(np.maximum(0.0, np.maximum(lo - p, p - hi))))
@@ -51,7 +62,9 @@ def test_random_clouds_against_qhull() -> None:
         scale = rng.uniform(0.001, 10.0)
         pts = rng.normal(size=(int(rng.integers(4, 60)), 3)) * scale + rng.normal(size=3) * scale
         p = pts.mean(axis=0) + rng.normal(size=3) * rng.uniform(0.0, 3.0) * scale
-        assert distance_to_hull(pts, p) == pytest.approx(reference_distance(pts, p), abs=1e-8 * scale)
+        d = distance_to_hull(pts, p)
+        assert d == pytest.approx(reference_distance(pts, p), abs=1e-8 * scale)
+        assert d == pytest.approx(qp_distance(pts, p), abs=1e-6 * scale)
 
 
 def test_box_corners_against_closed_form() -> None:
