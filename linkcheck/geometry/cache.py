@@ -1,0 +1,109 @@
+"""On-disk cache of mesh results, shared by concurrent hook processes.
+
+Entries are keyed by the file's content hash, the scale, the loader and ``FORMAT_VERSION``,
+so a changed mesh or a new release never reads an old result. Every write goes to a temporary
+file in the same folder and is renamed into place (atomic on POSIX and Windows), so a reader
+sees a whole entry or none; a corrupt or foreign entry is ignored and rebuilt. A small stat
+index (size, mtime, inode per path) lets a warm run skip re-reading and re-hashing big meshes;
+a file modified within ``RACY_SECONDS`` of being indexed is always re-hashed.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import os
+import tempfile
+import time
+from pathlib import Path
+from typing import Any
+
+#: Bump when the meaning of a cached payload changes.
+FORMAT_VERSION = 1
+RACY_SECONDS = 2.0
+
+
+def default_directory(env: dict[str, str] | None = None) -> Path:
+    """``$XDG_CACHE_HOME/linkcheck`` (``~/.cache/linkcheck`` when unset), or ``$LINKCHECK_CACHE_DIR``."""
+    env = os.environ if env is None else env
+    if env.get("LINKCHECK_CACHE_DIR"):
+        return Path(env["LINKCHECK_CACHE_DIR"])
+    base = env.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
+    return Path(base) / "linkcheck"
+
+
+def content_digest(data: bytes) -> str:
+    return hashlib.sha1(data).hexdigest()  # fastest here (SHA-NI); collisions are not a threat model for a cache
+
+
+class MeshCache:
+    """Mesh results by content; every failure to read or write the cache is silent (it is only a cache)."""
+
+    def __init__(self, directory: Path | None = None) -> None:
+        self.directory = Path(directory) if directory is not None else default_directory()
+        self._entries = self.directory / f"meshes-v{FORMAT_VERSION}"
+        self._index = self.directory / f"stat-v{FORMAT_VERSION}"
+
+    # --- content hashes, via the stat index
+    def digest(self, path: Path) -> tuple[str, bytes | None]:
+        """Content hash of ``path``, and its bytes if they had to be read (None: known from the index).
+
+        Raises OSError when the file cannot be read.
+        """
+        path = Path(path)
+        st = os.stat(path)
+        index_file = self._index / (hashlib.blake2b(str(path.resolve()).encode(), digest_size=16).hexdigest() + ".json")
+        stamp = [st.st_size, st.st_mtime_ns, st.st_ino, st.st_ctime_ns]
+        known = _read_json(index_file)
+        if (
+            known is not None
+            and known.get("stamp") == stamp
+            and isinstance(known.get("digest"), str)
+            and max(st.st_mtime_ns, st.st_ctime_ns) < int(known.get("indexed_ns", 0)) - RACY_SECONDS * 1e9
+        ):
+            return known["digest"], None
+        data = path.read_bytes()
+        digest = content_digest(data)
+        _write_json(index_file, {"stamp": stamp, "digest": digest, "indexed_ns": time.time_ns()})
+        return digest, data
+
+    @staticmethod
+    def key(digest: str, scale: tuple[float, float, float], loader: str) -> str:
+        text = f"{FORMAT_VERSION}|{digest}|{loader}|{','.join(repr(float(s)) for s in scale)}"
+        return hashlib.blake2b(text.encode(), digest_size=20).hexdigest()
+
+    # --- entries
+    def get(self, key: str) -> dict[str, Any] | None:
+        payload = _read_json(self._entries / key[:2] / f"{key}.json")
+        if not isinstance(payload, dict) or payload.get("version") != FORMAT_VERSION or payload.get("key") != key:
+            return None
+        return payload
+
+    def put(self, key: str, payload: dict[str, Any]) -> None:
+        _write_json(self._entries / key[:2] / f"{key}.json", {**payload, "version": FORMAT_VERSION, "key": key})
+
+
+def _read_json(path: Path) -> Any:
+    try:
+        with open(path, "rb") as fh:
+            return json.loads(fh.read())
+    except (OSError, ValueError):
+        return None
+
+
+def _write_json(path: Path, payload: dict[str, Any]) -> None:
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        fd, tmp = tempfile.mkstemp(prefix=".tmp-", suffix=".json", dir=path.parent)
+        try:
+            with os.fdopen(fd, "wb") as fh:
+                fh.write(json.dumps(payload, allow_nan=False).encode())
+            os.replace(tmp, path)
+        except BaseException:
+            try:
+                os.unlink(tmp)
+            except OSError:
+                pass
+            raise
+    except (OSError, ValueError, TypeError):
+        pass
