@@ -44,8 +44,10 @@ def bounding_box(points: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 def max_distance(points: np.ndarray, p: np.ndarray) -> float:
     """Largest distance from ``p`` to a point of the set (= to its convex hull)."""
-    cols = _columns(points) - np.asarray(p, dtype=float).reshape(3, 1)
-    return float(np.sqrt(np.max(np.einsum("ij,ij->j", cols, cols))))
+    pts = _as_points(points)
+    q = np.asarray(p, dtype=float).reshape(3)
+    x, y, z = pts[:, 0] - q[0], pts[:, 1] - q[1], pts[:, 2] - q[2]
+    return float(np.sqrt(np.max(x * x + y * y + z * z)))
 
 
 Vec = tuple[float, float, float]
