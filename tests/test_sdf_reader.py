@@ -407,3 +407,24 @@ def test_duplicate_names_are_reported(tmp_path):
     assert [k.name for k in doc.links] == ["a"]
     dup = [f for f in doc.findings if "already used" in f.message]
     assert len(dup) == 2 and all(f.severity == "error" for f in dup)
+
+
+def test_static_models_mark_their_links(tmp_path):
+    path = world(tmp_path, "<model name='ground'><static>true</static><link name='soil'/><model name='rock'><link name='r'/></model></model><model name='cart'><link name='c'/></model>")
+    doc = read_sdf(path)
+    # sdf/1.x/model.sdf <static>: the model never moves (its mass properties are unused)
+    assert [(k.name, k.handle.static) for k in doc.links] == [("ground::soil", True), ("ground::rock::r", True), ("cart::c", False)]
+
+
+def test_same_model_included_twice_and_self_include(tmp_path):
+    make_model_dir(tmp_path, "tree")
+    path = world(
+        tmp_path,
+        "<include><uri>model://tree</uri><name>t1</name></include>"
+        "<include><uri>model://tree</uri><name>t2</name><pose>2 0 0 0 0 0</pose></include>"
+        "<include><uri>w.world</uri></include>",
+    )
+    doc = read_sdf(path)
+    assert [[k.name for k in sub.links] for sub in doc.included] == [["t1::body"], ["t2::body"]]
+    (f,) = doc.findings
+    assert "includes itself" in f.message

@@ -57,6 +57,9 @@ class SdfLinkHandle:
     #: Mass properties the simulator will use (defaults filled in), link frame; None if malformed/auto.
     effective: MassProperties | None = None
     read_only: bool = False
+    #: In a ``<static>true</static>`` model (or one nested in it): simulators never move it,
+    #: so its mass properties are unused.
+    static: bool = False
 
 
 @dataclass
@@ -178,9 +181,12 @@ class _Reader:
 
     # ---- models
 
-    def model(self, el: Any, scope: tuple[str, ...], pose_override: tuple[Pose, str | None] | None = None) -> None:
+    def model(
+        self, el: Any, scope: tuple[str, ...], pose_override: tuple[Pose, str | None] | None = None, static: bool = False
+    ) -> None:
         """A <model> (or the model of an included file) whose scope is ``scope``."""
         graph = self.ctx.graph
+        static = static or _text(_child(el, "static")).lower() in ("true", "1")
         pose, rel, _ = self.pose_of(el, f"model '{'::'.join(scope)}' pose")
         if pose_override is not None:
             pose, rel = pose_override
@@ -188,7 +194,7 @@ class _Reader:
         for child in el:
             kind = _local(child)
             if kind == "link":
-                self.link(child, scope)
+                self.link(child, scope, static)
             elif kind == "joint":
                 self.joint(child, scope)
             elif kind == "frame":
@@ -198,7 +204,7 @@ class _Reader:
                 if not name:
                     self.malformed(f"a nested <model> in {FrameGraph.describe_scope(scope)} has no name", child)
                     continue
-                self.model(child, scope + (name,))
+                self.model(child, scope + (name,), static=static)
             elif kind == "include":
                 self.include(child, scope)
 
@@ -228,7 +234,7 @@ class _Reader:
 
     # ---- links
 
-    def link(self, el: Any, scope: tuple[str, ...]) -> None:
+    def link(self, el: Any, scope: tuple[str, ...], static: bool = False) -> None:
         name = el.get("name")
         if not name:
             self.malformed(f"a <link> in {FrameGraph.describe_scope(scope)} has no name", el)
@@ -238,7 +244,7 @@ class _Reader:
             return
         pose, rel, _ = self.pose_of(el, f"link '{full}' pose")
         self.ctx.graph.add_link(scope, name, pose, rel, self.xml.line(el))
-        handle = SdfLinkHandle(el, self.xml, read_only=self.read_only)
+        handle = SdfLinkHandle(el, self.xml, read_only=self.read_only, static=static)
         link = Link(full, self.xml.line(el), None, "absent", handle=handle)
         self.current = full
         iel = _child(el, "inertial")
@@ -508,10 +514,12 @@ class _Reader:
         placement = _text(_child(el, "placement_frame"))
         if placement:
             model_el.set("placement_frame", placement)
+        chain = self.ctx.seen
         self.ctx.depth += 1
-        self.ctx.seen += (target,)
-        reader.model(model_el, scope + (name,), override)
+        self.ctx.seen = chain + (target,)
+        reader.model(model_el, scope + (name,), override, static=_text(_child(el, "static")).lower() in ("true", "1"))
         self.ctx.depth -= 1
+        self.ctx.seen = chain
         self.doc.included.append(sub_doc)
 
 
