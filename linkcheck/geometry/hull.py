@@ -133,14 +133,17 @@ def _closest_in_simplex(simplex: list[Vec], newest_only: bool = False) -> tuple[
 def distance_to_hull(points: np.ndarray, p: np.ndarray) -> float:
     """Euclidean distance from ``p`` to the convex hull of ``points``; 0.0 inside or on it.
 
-    Accurate to RTOL x the set's bounding-box diagonal.
+    Accurate to RTOL x the set's bounding-box diagonal. A query point with a nan
+    or inf coordinate is not inside anything: inf. Non-finite points raise ValueError.
     """
     pts = _as_points(points)
     p = np.asarray(p, dtype=float).reshape(3)
     cols = np.ascontiguousarray(pts.T)
     lo, hi = cols.min(axis=1), cols.max(axis=1)
-    if not (np.all(np.isfinite(lo)) and np.all(np.isfinite(hi)) and np.all(np.isfinite(p))):
-        raise ValueError("points and query point must be finite (got nan or inf)")
+    if not (np.all(np.isfinite(lo)) and np.all(np.isfinite(hi))):
+        raise ValueError("points must be finite (got nan or inf)")
+    if not np.all(np.isfinite(p)):
+        return math.inf
     # Coordinates carry rounding of their own size, so far-off sets get a looser floor.
     size = max(float(np.linalg.norm(hi - lo)), 1e-6 * float(np.max(np.abs(np.concatenate([lo, hi, p])))))
     if size == 0.0:
