@@ -160,3 +160,27 @@ def test_auto_and_included_links_are_refused(tmp_path):
         rewrite_sdf(doc, {"l": edit()})
     with pytest.raises(ValueError, match="not a link"):
         rewrite_sdf(doc, {"ghost": edit()})
+
+
+@pytest.mark.parametrize("attrs", ["", ' degrees="true"', ' rotation_format="quat_xyzw"'])
+def test_random_edits_reread_as_written(tmp_path, attrs):
+    # scipy random rotations; tensors from random principal moments obeying the triangle inequality
+    rng = np.random.default_rng(7)
+    pose_text = "0 0 0 0 0 0 1" if "quat" in attrs else "0 0 0 0 0 0"
+    path = tmp_path / "r.sdf"
+    path.write_text(
+        f'<sdf version="1.9"><model name="m"><link name="l"><inertial><pose{attrs}>{pose_text}</pose>'
+        "<mass>1</mass><inertia><ixx>1</ixx><iyy>1</iyy><izz>1</izz></inertia></inertial></link></model></sdf>"
+    )
+    doc = read_sdf(path)
+    for rot in Rotation.random(20, random_state=3):
+        a, b = rng.uniform(0.1, 1.0, 2)
+        moments = np.array([a, b, rng.uniform(abs(a - b) + 0.01, a + b)]) * 1e-3
+        e = InertialEdit(float(rng.uniform(0.01, 5)), rng.uniform(-0.2, 0.2, 3), rot.as_matrix(), np.diag(moments))
+        new = rewrite_sdf(doc, {"l": e})
+        st = read_sdf(path, new).link("l").inertial
+        want = e.rotation @ e.inertia_frame @ e.rotation.T
+        assert np.isclose(st.mass, e.mass, rtol=1e-9)
+        assert np.allclose(st.com, e.com, atol=1e-9)
+        assert np.allclose(st.mass_properties().inertia, want, rtol=0, atol=1e-9 * np.trace(want))
+        assert (attrs.strip() in new.decode()) if attrs else True
