@@ -413,7 +413,8 @@ def test_static_models_mark_their_links(tmp_path):
     path = world(tmp_path, "<model name='ground'><static>true</static><link name='soil'/><model name='rock'><link name='r'/></model></model><model name='cart'><link name='c'/></model>")
     doc = read_sdf(path)
     # sdf/1.x/model.sdf <static>: the model never moves (its mass properties are unused)
-    assert [(k.name, k.handle.static) for k in doc.links] == [("ground::soil", True), ("ground::rock::r", True), ("cart::c", False)]
+    assert [(k.name, k.handle.static, k.static) for k in doc.links] == [
+        ("ground::soil", True, True), ("ground::rock::r", True, True), ("cart::c", False, False)]
 
 
 def test_same_model_included_twice_and_self_include(tmp_path):

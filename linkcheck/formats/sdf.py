@@ -241,6 +241,7 @@ class _Reader:
         self.ctx.graph.add_link(scope, name, pose, rel, self.xml.line(el))
         handle = SdfLinkHandle(el, self.xml, read_only=self.read_only, static=static)
         link = Link(full, self.xml.line(el), None, "absent", handle=handle)
+        link.static = static  # Link.static (model.py); also on the handle
         self.current = full
         iel = _child(el, "inertial")
         if iel is not None:
