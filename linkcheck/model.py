@@ -121,6 +121,8 @@ class Link:
     suppressions: list[tuple[str, int, str]] = field(default_factory=list)
     #: Opaque to everything but the reader/writer of its format (XML element, spans...).
     handle: Any = None
+    #: In an SDF ``<static>`` model: never moved by a simulator, so its inertia is unused.
+    static: bool = False
 
     def bodies_of(self, role: str) -> list[Body]:
         return [b for b in self.bodies if b.role == role]

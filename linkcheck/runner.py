@@ -80,16 +80,17 @@ def check_document(doc: Document, settings: Settings, estimator: Estimator | Non
     contexts: list[LinkContext] = []
     estimates: dict[str, LinkEstimate] = {}
     for link in doc.links:
-        s = stated[link.name]
+        static = link.static or getattr(link.handle, "static", False)
+        auto = link.inertial is not None and link.inertial.auto
+        s = None if auto else stated[link.name]
         est = estimator.link(link, s.mass if s is not None else None)
         estimates[link.name] = est
-        findings.extend(est.findings)
         ctx = LinkContext(
             path=doc.path,
             format=doc.format,
             link=link,
             settings=settings,
-            inertial=link.inertial,
+            inertial=None if auto else link.inertial,
             stated=s,
             estimate=est.solid,
             geometry_source=est.source,
@@ -98,14 +99,72 @@ def check_document(doc: Document, settings: Settings, estimator: Estimator | Non
             subtree_mass=_subtree_mass(link.name, masses, children),
         )
         contexts.append(ctx)
+        if static:
+            continue  # a static model's links are never moved: their inertia is unused
+        findings.extend(est.findings)
+        if auto:
+            found = auto_inertia(link, est, settings)
+            findings.extend(found.findings)
+            masses[link.name] = found.mass
+            continue
         found = evaluate(ctx)
-        if s is not None and est.solid is None and s.mass > 0 and (link.bodies or est.reason):
+        if s is not None and est.solid is None and s.mass > 0:
             found.append(Finding("estimate-unavailable", "info",
                                  f"link '{link.name}': {est.reason or 'no usable geometry'}: comparisons with the geometry skipped",
                                  link.name, link.line))
         findings.extend(found)
+    quiet = {k.name for k in doc.links if k.static or getattr(k.handle, "static", False)}
+    findings = [f for f in findings if f.link not in quiet or f.severity == "error"]
     findings = _clear_by_groups(doc, contexts, findings, parents, settings)
     return contexts, findings
+
+
+@dataclass(frozen=True)
+class AutoInertia:
+    mass: float
+    findings: list[Finding]
+
+
+def auto_inertia(link: Link, est: LinkEstimate, settings: Settings) -> AutoInertia:
+    """SDF <inertial auto="true">: not a missing block; check what the simulator will compute from.
+
+    Density per collision: its <density>, else the link's <inertial><density>, else 1000 kg/m³
+    (FORMATS.md §2.5). A stated <mass> rescales the result (COM unchanged).
+    """
+    from linkcheck.checks import words
+
+    inertial = link.inertial
+    assert inertial is not None
+    name, line = link.name, inertial.line
+    collisions = [b for b in link.bodies_of("collision") if b.shape is not None]
+    if not collisions:
+        return AutoInertia(0.0, [Finding("inertial-missing", "warning",
+                                         f"link '{name}': <inertial auto=\"true\"> needs collision geometry, and the link "
+                                         "has none: simulators refuse to compute its inertia", name, line)])
+    out: list[Finding] = []
+    default = inertial.density if inertial.density is not None else 1000.0
+    densities = {b.density if b.density is not None else default for b in collisions}
+    for rho in sorted(densities):
+        if not settings.density_min <= rho <= settings.density_max:
+            out.append(Finding("density-implausible", "warning",
+                               f"link '{name}': auto inertia uses a density of {words.num(rho)} kg/m³ (plausible: "
+                               f"{words.num(settings.density_min)}–{words.num(settings.density_max)})", name, line))
+    solid = est.solid
+    if solid is None or est.source != "collision":
+        return AutoInertia(0.0, out)
+    if len(densities) == 1:
+        rho = densities.pop()
+        mass = rho * solid.volume
+    else:
+        mass = sum((b.density if b.density is not None else default) for b in collisions) / len(collisions) * solid.volume
+    if "mass" not in inertial.missing:
+        mass = inertial.mass
+    props = solid.props.with_mass(mass)
+    out.append(Finding("geometry-note", "info",
+                       f"link '{name}': <inertial auto=\"true\">: simulators compute about {words.kg(mass)}, centre of mass "
+                       f"({', '.join(words.num(v) for v in props.com)}) m, {words.tensor(props.inertia)} "
+                       "from the collision geometry (uniform density per collision)", name, line))
+    return AutoInertia(mass, out)
 
 
 def _subtree_mass(name: str, masses: dict[str, float], children: dict[str, list[Joint]], seen: set[str] | None = None) -> float:
