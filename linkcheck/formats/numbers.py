@@ -62,6 +62,8 @@ def format_number(x: float, digits: int | None = None) -> str:
             text = text[:-2]
         return _clean(text)
     text = f"{x:.{digits}g}"
+    if "e" in text and 1 <= abs(x) < 1e7:
+        text = f"{float(text):.0f}"  # 30, not 3e1: integers read as integers in a diff
     return "0" if float(text) == 0 else _clean(text)
 
 
