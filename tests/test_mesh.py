@@ -423,3 +423,44 @@ def test_binary_stl_path_imports_neither_trimesh_nor_scipy(tmp_path: Path) -> No
         """)
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == ""
+
+
+def test_hollow_body_keeps_its_cavity(tmp_path: Path) -> None:
+    outer = trimesh.creation.icosphere(subdivisions=3, radius=1.0)
+    inner = trimesh.creation.icosphere(subdivisions=3, radius=0.5)
+    inner.invert()  # a cavity: its surface faces inward, into the hole
+    shell = trimesh.util.concatenate([outer, inner])
+    est = estimate(write_binary_stl(tmp_path / "shell.stl", shell.triangles))
+    assert est.trusted and not est.findings
+    assert_matches_trimesh(est, f32_mesh(shell))  # trimesh: volume = outer - inner
+
+
+def test_two_bodies_with_flipped_faces_in_one_are_reoriented_per_body(tmp_path: Path) -> None:
+    a = trimesh.creation.icosphere(subdivisions=2, radius=0.3)
+    b = trimesh.creation.icosphere(subdivisions=2, radius=0.2).apply_translation((1.0, 0, 0))
+    b_tris = b.triangles.copy()
+    b_tris[:-5] = b_tris[:-5][:, [0, 2, 1]]  # most of b inverted, five faces right
+    tris = np.concatenate([a.triangles, b_tris])
+    est = estimate(write_binary_stl(tmp_path / "two.stl", tris))
+    assert rules(est) == ["mesh-inside-out"]
+    assert_matches_trimesh(est, f32_mesh(trimesh.util.concatenate([a, b])))
+
+
+def test_open_box_with_two_opposite_faces_missing(tmp_path: Path) -> None:
+    # the area vectors of the two holes cancel; the weighted edge sums do not
+    cube = trimesh.creation.box((1, 1, 1))
+    keep = np.abs(cube.face_normals[:, 2]) < 0.5
+    est = estimate(write_binary_stl(tmp_path / "tube.stl", cube.triangles[keep]))
+    assert rules(est) == ["mesh-not-watertight"] and "8 open edges" in est.findings[0].message
+    assert est.solid.volume == pytest.approx(1.0)  # hull of a box's sides is the box
+
+
+def test_gltf_with_external_buffer(tmp_path: Path) -> None:
+    box = trimesh.creation.box((0.5, 1.0, 2.0))
+    files = trimesh.Scene(box).export(file_type="gltf")  # {"model.gltf": ..., "gltf_buffer_*.bin": ...}
+    for name, data in files.items():
+        (tmp_path / name).write_bytes(data)
+    gltf = next(tmp_path / n for n in files if n.endswith(".gltf"))
+    est = estimate(gltf)
+    assert est.solid.volume == pytest.approx(1.0, rel=1e-6)
+    assert np.allclose(est.solid.props.inertia, box.moment_inertia, rtol=1e-6)

@@ -300,10 +300,15 @@ def _props(it: _Integral, sign: float = 1.0) -> MassProperties:
 
 
 def _extreme_points(x: np.ndarray, y: np.ndarray, z: np.ndarray) -> np.ndarray:
-    """Vertices extreme along the 3 axes and 4 cube diagonals (both ways), plus the farthest from the
-    reference point: a cheap subset of the hull's vertices, exact for the bounding box."""
+    """Vertices extreme along 26 directions (axes, face and body diagonals, both ways) plus the one
+    farthest from the reference point (the bounding-box centre).
+
+    A cheap subset of the hull's vertices: exact for the bounding box and for the largest distance
+    from its centre; its hull lies inside the true hull (for a sphere-like mesh its inradius is
+    about 0.85 of the radius), so a point outside it is only probably outside the mesh.
+    """
     idx = [x.argmin(), x.argmax(), y.argmin(), y.argmax(), z.argmin(), z.argmax()]
-    for combo in (x + y + z, x + y - z, x - y + z, y + z - x):
+    for combo in (x + y, x - y, y + z, y - z, x + z, x - z, x + y + z, x + y - z, x - y + z, y + z - x):
         idx += [combo.argmin(), combo.argmax()]
     idx.append((x * x + y * y + z * z).argmax())
     sel = np.unique(np.array(idx))
@@ -396,8 +401,9 @@ def _edges(faces: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return key, sign, owner
 
 
-def orient(faces: np.ndarray) -> np.ndarray | None:
-    """Flags of the faces to flip so every two-face edge is used once each way, or None if impossible.
+def orient(faces: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
+    """Flags of the faces to flip so every two-face edge is used once each way, and the patch
+    label of every face; None if impossible (non-orientable or non-manifold).
 
     Each connected patch keeps the orientation most of its faces already had.
     """
@@ -405,6 +411,8 @@ def orient(faces: np.ndarray) -> np.ndarray | None:
     from scipy.sparse.csgraph import breadth_first_order, connected_components
 
     m = len(faces)
+    if m == 0:
+        return None
     key, sign, owner = _edges(faces)
     order = np.argsort(key, kind="stable")
     sk = key[order]
@@ -413,35 +421,33 @@ def orient(faces: np.ndarray) -> np.ndarray | None:
     pair = starts[counts == 2]
     f1, f2 = owner[order[pair]], owner[order[pair + 1]]
     same = (sign[order[pair]] == sign[order[pair + 1]]).astype(np.int8)  # 1: neighbours disagree
-    graph = coo_matrix((same.astype(np.float64) + 1.0, (f1, f2)), shape=(m, m)).tocsr()
-    graph = graph + graph.T
-    ncomp, labels = connected_components(graph, directed=False)
-    flip = np.zeros(m, dtype=bool)
-    for comp in range(ncomp):
-        members = np.flatnonzero(labels == comp)
-        if len(members) == 1:
-            continue
-        nodes, pred = breadth_first_order(graph, members[0], directed=False, return_predecessors=True)
-        parity = np.zeros(m, dtype=bool)
-        parent = np.where(pred < 0, np.arange(m), pred)
-        has = pred[nodes] >= 0
-        rel = np.zeros(m, dtype=bool)
-        rel[nodes[has]] = np.asarray(graph[nodes[has], parent[nodes[has]]]).ravel() > 1.5
-        parity[:] = rel
-        jump = parent.copy()
-        for _ in range(int(np.ceil(np.log2(max(len(nodes), 2)))) + 1):
-            parity = parity ^ parity[jump]
-            jump = jump[jump]
-            # the root's parity is False, so repeated XOR through it is harmless
-        comp_flip = parity[members]
-        if comp_flip.sum() * 2 > len(members):
-            comp_flip = ~comp_flip
-        flip[members] = comp_flip
+    # node m is a root joined to one face of every patch, so one search covers them all
+    _, labels = connected_components(coo_matrix((np.ones(len(f1)), (f1, f2)), shape=(m, m)), directed=False)
+    _, firsts = np.unique(labels, return_index=True)
+    rows = np.r_[f1, np.full(len(firsts), m)]
+    cols = np.r_[f2, firsts]
+    graph = coo_matrix((np.ones(len(rows)), (rows, cols)), shape=(m + 1, m + 1)).tocsr()
+    graph = (graph + graph.T).tocsr()
+    nodes, pred = breadth_first_order(graph, m, directed=False, return_predecessors=True)
+    parent = np.where(pred < 0, np.arange(m + 1), pred)
+    child = nodes[1:]
+    child = child[parent[child] < m]
+    pair_key = np.minimum(f1, f2) * (m + 1) + np.maximum(f1, f2)
+    by_key = np.argsort(pair_key, kind="stable")
+    want = np.minimum(child, parent[child]) * (m + 1) + np.maximum(child, parent[child])
+    rel = np.zeros(m + 1, dtype=bool)
+    rel[child] = same[by_key[np.searchsorted(pair_key[by_key], want)]] == 1
+    parity, jump = rel, parent
+    for _ in range(int(np.ceil(np.log2(m + 2))) + 1):  # pointer jumping: parity of the path to the root
+        parity, jump = parity ^ parity[jump], jump[jump]
+    flip = parity[:m]
+    # each patch keeps the orientation most of its faces had
+    flip = flip ^ (2 * np.bincount(labels, weights=flip, minlength=len(firsts)) > np.bincount(labels))[labels]
     sign2 = np.where(flip[owner], -sign, sign)  # flipping a face reverses its three edges
     sums = np.add.reduceat(sign2[order], starts)
     if np.any((counts == 2) & (sums != 0)):
         return None
-    return flip
+    return flip, labels
 
 
 def _repair(cols: np.ndarray, origin: np.ndarray, radius: float, points: np.ndarray, n: int) -> _Result:
@@ -451,10 +457,14 @@ def _repair(cols: np.ndarray, origin: np.ndarray, radius: float, points: np.ndar
     if topo.open_edges == 0 and topo.inconsistent_edges == 0:
         return _closed_result(integrate(to_columns(tris[topo.keep]), origin, radius), points, n, findings)
     if topo.open_edges == 0:
-        flip = orient(topo.faces)
-        if flip is not None:
+        oriented = orient(topo.faces)
+        if oriented is not None:
+            flip, labels = oriented
             fixed = tris[topo.keep].copy()
             fixed[flip] = fixed[flip][:, [0, 2, 1]]
+            outward = _outward_patches(fixed, labels)
+            flip ^= outward[labels]
+            fixed[outward[labels]] = fixed[outward[labels]][:, [0, 2, 1]]
             it = integrate(to_columns(fixed), origin, radius)
             if it.closure <= CLOSURE_TOL * 10:
                 flipped = int(flip.sum())
@@ -475,6 +485,31 @@ def _repair(cols: np.ndarray, origin: np.ndarray, radius: float, points: np.ndar
                             data={"open_edges": topo.open_edges, "inconsistent_edges": topo.inconsistent_edges,
                                   "upper_bound": True}))
     return _Result(hull_props, hull_points, findings, True, n)
+
+
+def _outward_patches(tris: np.ndarray, labels: np.ndarray) -> np.ndarray:
+    """Patches to flip: those wound inward that no other patch's box contains (so not cavities).
+
+    The winding of a patch is only known relative to itself; a patch whose signed volume is
+    negative is a cavity when it sits inside another patch, an inverted body otherwise.
+    """
+    count = int(labels.max()) + 1
+    d = np.einsum("ij,ij->i", tris[:, 0], np.cross(tris[:, 1], tris[:, 2]))
+    vol = np.bincount(labels, weights=d, minlength=count)
+    out = np.zeros(count, dtype=bool)
+    if count == 1:
+        return out  # one body: an inward result is flipped as a whole and reported as inside-out
+    lo = np.full((count, 3), np.inf)
+    hi = np.full((count, 3), -np.inf)
+    corners = tris.reshape(-1, 3)
+    rep = np.repeat(labels, 3)
+    np.minimum.at(lo, rep, corners)
+    np.maximum.at(hi, rep, corners)
+    for i in np.flatnonzero(vol < 0):
+        inside = np.all(lo <= lo[i], axis=1) & np.all(hi >= hi[i], axis=1) & (vol > 0)
+        inside[i] = False
+        out[i] = not inside.any()
+    return out
 
 
 def _closed_result(it: _Integral, points: np.ndarray, n: int, findings: list[Finding]) -> _Result:
