@@ -464,3 +464,36 @@ def test_gltf_with_external_buffer(tmp_path: Path) -> None:
     est = estimate(gltf)
     assert est.solid.volume == pytest.approx(1.0, rel=1e-6)
     assert np.allclose(est.solid.props.inertia, box.moment_inertia, rtol=1e-6)
+
+
+FIXTURES = Path(__file__).resolve().parent.parent / "fixtures" / "meshes"
+
+
+@pytest.mark.parametrize(
+    "name, scale, expected_rules",
+    [
+        ("bracket.stl", 1.0, []),
+        ("bracket_ascii.stl", 1.0, []),
+        ("bracket.obj", 1.0, []),
+        ("bracket_mm.dae", 1.0, []),
+        ("bracket_mm.STL", 0.001, []),
+        ("bracket_inverted.stl", 1.0, ["mesh-inside-out"]),
+    ],
+)
+def test_fixture_bracket_volume(name: str, scale: float, expected_rules: list[str]) -> None:
+    est = mesh_estimate(name, FIXTURES, (scale,) * 3, NO_ENV, None)
+    assert rules(est) == expected_rules
+    # the L profile is two rectangles, 0.08 x 0.01 and 0.01 x 0.03 m, extruded 0.05 m
+    assert est.solid.volume == pytest.approx((0.08 * 0.01 + 0.01 * 0.03) * 0.05, rel=1e-6)
+    ref = trimesh.load_mesh(FIXTURES / "bracket.obj", process=False)
+    assert np.allclose(est.solid.props.inertia, ref.moment_inertia, rtol=1e-5, atol=1e-12)
+
+
+def test_fixture_glb_pair_and_open_bracket() -> None:
+    pair = mesh_estimate("pair.glb", FIXTURES, (1, 1, 1), NO_ENV, None)
+    assert pair.solid.volume == pytest.approx(2 * 5.5e-5, rel=1e-6) and not pair.findings
+    ref = trimesh.load_scene(FIXTURES / "pair.glb").to_mesh()  # trimesh bakes the node transforms too
+    assert np.allclose(pair.solid.props.com, ref.center_mass, atol=1e-7)
+    open_ = mesh_estimate("bracket_open.stl", FIXTURES, (1, 1, 1), NO_ENV, None)
+    assert rules(open_) == ["mesh-not-watertight"] and open_.upper_bound
+    assert open_.solid.volume > 5.5e-5  # the hull of an L is larger than the L
