@@ -13,7 +13,7 @@ from linkcheck.checks import evaluate
 from linkcheck.checks.context import LinkContext
 from linkcheck.estimate import Estimator, LinkEstimate
 from linkcheck.geometry.solid import union
-from linkcheck.inertia import MassProperties, combine
+from linkcheck.inertia import combine
 from linkcheck.model import Document, Finding, Joint, Link, Pose
 from linkcheck.settings import Settings
 

@@ -10,17 +10,15 @@ are read for the whole-model picture into ``Document.included`` (read-only).
 from __future__ import annotations
 
 import math
-import re
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 import numpy as np
-from lxml import etree
 
 from linkcheck.formats.frames import MODEL_FRAME, WORLD, FrameError, FrameGraph, FrameId, PoseError, parse_pose
 from linkcheck.formats.sdf_include import find_include, parse_version
-from linkcheck.formats.xml import XmlError, XmlFile, parse_xml
+from linkcheck.formats.xml import XmlError, XmlFile, parse_xml, suppressions
 from linkcheck.inertia import MassProperties
 from linkcheck.model import NON_SOLID_SHAPES, Body, Document, Finding, Joint, Link, Pose, Shape, StatedInertial
 
@@ -42,10 +40,6 @@ SHAPE_PARAMS: dict[str, tuple[tuple[str, tuple[float, ...]], ...]] = {
 SHAPE_SINCE = {"capsule": (1, 8), "ellipsoid": (1, 8), "cone": (1, 11)}
 MAX_INCLUDE_DEPTH = 8
 
-_SUPPRESS = re.compile(
-    r"^\s*linkcheck:\s*allow\s+([A-Za-z0-9_\-]+(?:\s*,\s*[A-Za-z0-9_\-]+)*)\s*(?:(?:[-:\u2013\u2014]+|because)\s*(.*?))?\s*$",
-    re.S,
-)
 
 
 @dataclass
@@ -445,26 +439,7 @@ class _Reader:
         return Shape("mesh", (), uri, scale, base, sub_name, center)  # type: ignore[arg-type]
 
     def suppressions(self, el: Any) -> list[tuple[str, int, str]]:
-        """Inline ``<!-- linkcheck: allow RULE[, RULE] - reason -->`` inside the link or right before it."""
-        comments = [c for c in el.iter() if c.tag is etree.Comment]
-        prev = el.getprevious()
-        while prev is not None and prev.tag is etree.Comment:
-            comments.insert(0, prev)
-            if (prev.tail or "").strip():
-                break
-            prev = prev.getprevious()
-        out = []
-        for c in comments:
-            m = _SUPPRESS.match(c.text or "")
-            if not m:
-                continue
-            try:
-                line = self.xml.line(c)
-            except KeyError:
-                line = self.xml.line(el)
-            for rule in m.group(1).split(","):
-                out.append((rule.strip(), line, (m.group(2) or "").strip()))
-        return out
+        return suppressions(self.xml, el)
 
     # ---- includes
 

@@ -20,17 +20,12 @@ from lxml import etree
 
 from linkcheck import inertia as inr
 from linkcheck.formats.numbers import INERTIA_KEYS, InertialEdit, format_edit, tensor_of
-from linkcheck.formats.xml import XmlError, XmlFile, parse_xml
+from linkcheck.formats.xml import XmlError, XmlFile, parse_xml, suppressions
 from linkcheck.model import Body, Document, Finding, Joint, Link, Pose, Shape, StatedInertial
 
 XACRO_NOTE = "value is a xacro expression; expand the file to check it"
 _NUMBER = re.compile(r"\s*[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?\s*\Z")
 _EXPRESSION = re.compile(r"\$[{(]")
-_SUPPRESS = re.compile(
-    r"\s*linkcheck\s*:\s*allow\s+([a-z0-9]+(?:-[a-z0-9]+)*(?:\s*,\s*[a-z0-9]+(?:-[a-z0-9]+)*)*)"
-    r"(?:\s*(?:\s-|[:;\u2013\u2014])\s*(.*?))?\s*\Z",
-    re.S,
-)
 _SHAPE_ATTRS = {"box": ("size",), "cylinder": ("radius", "length"), "sphere": ("radius",), "capsule": ("radius", "length")}
 
 
@@ -224,24 +219,7 @@ class _Reader:
         return link
 
     def suppressions(self, el: Any) -> list[tuple[str, int, str]]:
-        comments = []
-        prev = el.getprevious()
-        while prev is not None and prev.tag is etree.Comment:
-            comments.insert(0, prev)
-            prev = prev.getprevious()
-        comments += list(el.iter(etree.Comment))
-        out = []
-        for c in comments:
-            m = _SUPPRESS.match(c.text or "")
-            if not m:
-                continue
-            try:
-                line = self.xml.line(c)
-            except KeyError:
-                line = self.xml.line(el)
-            for rule in m.group(1).split(","):
-                out.append((rule.strip(), line, (m.group(2) or "").strip()))
-        return out
+        return suppressions(self.xml, el)
 
     def read_joint(self, el: Any) -> Joint | None:
         name = el.get("name") or ""

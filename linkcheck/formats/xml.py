@@ -287,3 +287,36 @@ def parse_xml(path: Path, data: bytes) -> XmlFile:
             xf._pos[c] = pos
     xf._keep = elements + lx_comments
     return xf
+
+
+#: ``<!-- linkcheck: allow RULE[, RULE] - reason -->``; the reason follows " -", ":", ";", an en or
+#: em dash, or "because" (a double dash is not allowed inside XML comments, XML 1.0 §2.5).
+SUPPRESSION = re.compile(
+    r"\s*linkcheck\s*:\s*allow\s+([a-z0-9]+(?:-[a-z0-9]+)*(?:\s*,\s*[a-z0-9]+(?:-[a-z0-9]+)*)*)"
+    r"(?:\s*(?:\s-|[:;\u2013\u2014]|because)\s*(.*?))?\s*\Z",
+    re.S | re.I,
+)
+
+
+def suppressions(xml: XmlFile, el: Any) -> list[tuple[str, int, str]]:
+    """Inline suppressions of one element: comments inside it, or right before it (rule, line, reason)."""
+    from lxml import etree
+
+    before = []
+    prev = el.getprevious()
+    while prev is not None and prev.tag is etree.Comment:
+        before.insert(0, prev)
+        if (prev.tail or "").strip():
+            break
+        prev = prev.getprevious()
+    out = []
+    for c in before + [c for c in el.iter() if c.tag is etree.Comment]:
+        m = SUPPRESSION.match(c.text or "")
+        if not m:
+            continue
+        try:
+            line = xml.line(c)
+        except KeyError:
+            line = xml.line(el)
+        out.extend((rule.strip().lower(), line, (m.group(2) or "").strip()) for rule in m.group(1).split(","))
+    return out
