@@ -497,3 +497,32 @@ def test_fixture_glb_pair_and_open_bracket() -> None:
     open_ = mesh_estimate("bracket_open.stl", FIXTURES, (1, 1, 1), NO_ENV, None)
     assert rules(open_) == ["mesh-not-watertight"] and open_.upper_bound
     assert open_.solid.volume > 5.5e-5  # the hull of an L is larger than the L
+
+
+def test_exact_hull_points_contain_the_cheap_ones(tmp_path: Path) -> None:
+    from linkcheck.geometry.cache import MeshCache
+    from linkcheck.geometry.mesh import mesh_hull_points
+
+    sphere = trimesh.creation.icosphere(subdivisions=3, radius=0.4)
+    path = write_binary_stl(tmp_path / "s.stl", sphere.triangles)
+    cache = MeshCache(tmp_path / "cache")
+    hull = mesh_hull_points(path, (1.0, 2.0, 1.0), cache)
+    # every vertex of a sphere is a hull vertex: trimesh's (qhull) hull of the scaled mesh agrees
+    ref = f32_mesh(sphere).apply_transform(np.diag([1.0, 2.0, 1.0, 1.0])).convex_hull
+    assert len(hull) == len(ref.vertices)
+    assert np.allclose(np.sort(hull, axis=0), np.sort(ref.vertices, axis=0), atol=1e-7)
+    assert np.array_equal(mesh_hull_points(path, (1.0, 2.0, 1.0), cache), hull)  # from the cache
+    cheap = estimate(path, (1.0, 2.0, 1.0)).solid.points
+    hull_rows = {tuple(np.round(p, 6)) for p in hull}
+    assert all(tuple(np.round(p, 6)) in hull_rows for p in cheap)
+
+
+def test_dae_reports_its_up_axis(tmp_path: Path) -> None:
+    pytest.importorskip("collada")
+    from linkcheck.geometry.mesh import up_axis_rotation
+
+    est = estimate(box_dae(tmp_path / "y.dae", (1, 2, 3), 1.0, "Y_UP"))
+    assert est.up_axis == "Y_UP"
+    rot = up_axis_rotation(est.up_axis)
+    assert np.allclose(rot @ (0, 1, 0), (0, 0, 1)) and np.isclose(np.linalg.det(rot), 1.0)  # proper rotation, y -> z
+    assert estimate(write_binary_stl(tmp_path / "b.stl", trimesh.creation.box((1, 1, 1)).triangles)).up_axis is None

@@ -41,6 +41,7 @@ CLOSURE_TOL = 1e-7
 UNIT_FACTORS = (1e-3, 1e-2, 0.0254, 1e3)
 _STL_RECORD = np.dtype([("n", "<f4", (3,)), ("v", "<f4", (3, 3)), ("attr", "<u2")])
 _VERTEX_RE = re.compile(rb"vertex\s+(\S+)\s+(\S+)\s+(\S+)")
+_UP_RE = re.compile(rb"<up_axis>\s*([XYZ]_UP)\s*</up_axis>")
 _UNIT_RE = re.compile(rb"<unit\b[^>]*?\bmeter\s*=\s*[\"']([^\"']+)[\"']")
 
 
@@ -55,7 +56,9 @@ class MeshEstimate:
     ``solid`` is at unit density in the mesh frame with the scale applied (None if unusable).
     ``findings`` carry no link or line (the caller fills them in). ``trusted`` False: do not
     compare with or fix from this estimate. ``upper_bound``: the solid is the convex hull of an
-    open mesh.
+    open mesh. ``up_axis``: a COLLADA file's ``<up_axis>`` as written; the estimate ignores it
+    (as rviz and Gazebo do), and ``up_axis_rotation`` gives the rotation a tool that honours it
+    would apply, to explain a stated COM that only matches after it.
     """
 
     solid: Solid | None
@@ -65,6 +68,7 @@ class MeshEstimate:
     upper_bound: bool = False
     triangles: int = 0
     cached: bool = False
+    up_axis: str | None = None
 
 
 @dataclass
@@ -74,6 +78,7 @@ class _Result:
     findings: list[Finding] = field(default_factory=list)
     upper_bound: bool = False
     triangles: int = 0
+    up_axis: str | None = None
 
 
 def mesh_estimate(
@@ -115,8 +120,11 @@ def _mesh_estimate(
     if res.note:
         notes = (Finding("mesh-note", "info", f"mesh '{uri}': {res.note}", data={"uri": uri}),)
     if res.path is None:
-        tried = "; tried " + ", ".join(res.tried[:6]) + (" ..." if len(res.tried) > 6 else "") if res.tried else ""
-        est = _unavailable(uri, None, f"{res.reason or 'not found'}{tried}")
+        reason = res.reason or "not found"
+        tried = ""
+        if res.tried and res.tried[0] not in reason:
+            tried = "; tried " + ", ".join(res.tried[:6]) + (" ..." if len(res.tried) > 6 else "")
+        est = _unavailable(uri, None, f"{reason}{tried}")
         return MeshEstimate(None, est.findings, False, None)
     path = res.path
     if len(scale) != 3 or not all(np.isfinite(scale)) or any(s == 0 for s in scale):
@@ -128,9 +136,15 @@ def _mesh_estimate(
 
     data: bytes | None = None
     key = None
-    result: _Result | None = None
     cached = False
-    if cache is not None:
+    try:
+        st = path.stat()
+    except OSError as exc:
+        return _unavailable(uri, path, f"cannot be read ({exc.strerror or exc})", notes)
+    memo_key = (str(path.resolve()), st.st_size, st.st_mtime_ns, st.st_ino, scale, loader)
+    # without a disk cache, a mesh named by several links is still computed once per process
+    result: _Result | None = _MEMO.get(memo_key) if cache is None else None
+    if result is None and cache is not None:
         try:
             digest, data = cache.digest(path)
         except OSError as exc:
@@ -147,9 +161,15 @@ def _mesh_estimate(
         try:
             result = _compute(data, loader, path, np.array(scale, dtype=float))
         except MeshError as exc:
+            # not cached: a failure may come from the environment (a missing optional reader)
             result = _Result(None, None, [Finding("mesh-unavailable", "error", str(exc))])
-        if cache is not None and key is not None:
-            cache.put(key, _to_payload(result))
+        else:
+            if cache is not None and key is not None:
+                cache.put(key, _to_payload(result))
+    if cache is None:
+        if len(_MEMO) >= 64:
+            _MEMO.clear()
+        _MEMO[memo_key] = result
 
     findings = [*notes, *(_with_uri(f, uri, path) for f in result.findings)]
     if result.props is None or result.points is None:
@@ -158,7 +178,11 @@ def _mesh_estimate(
     units = _units_finding(uri, result.points, scale, max_extent, min_extent)
     if units is not None:
         findings.append(units)
-    return MeshEstimate(solid, tuple(findings), units is None, path, result.upper_bound, result.triangles, cached)
+    return MeshEstimate(solid, tuple(findings), units is None, path, result.upper_bound, result.triangles, cached, result.up_axis)
+
+
+#: Results already computed in this process (the same mesh on several links, or a re-check).
+_MEMO: dict[tuple[Any, ...], _Result] = {}
 
 
 def _with_uri(f: Finding, uri: str, path: Path) -> Finding:
@@ -316,6 +340,23 @@ def _extreme_points(x: np.ndarray, y: np.ndarray, z: np.ndarray) -> np.ndarray:
 
 
 def _compute(data: bytes, loader: str, path: Path, scale: np.ndarray) -> _Result:
+    result = _compute_solid(data, loader, path, scale)
+    if loader == "dae":
+        match = _UP_RE.search(data)
+        result.up_axis = match.group(1).decode() if match else "Y_UP"  # COLLADA's default
+    return result
+
+
+def up_axis_rotation(up_axis: str | None) -> np.ndarray:
+    """Rotation taking a COLLADA file's up axis to +z: what a loader that honours it applies."""
+    if up_axis == "Y_UP":
+        return np.array([[1.0, 0.0, 0.0], [0.0, 0.0, -1.0], [0.0, 1.0, 0.0]])
+    if up_axis == "X_UP":
+        return np.array([[0.0, 0.0, -1.0], [0.0, 1.0, 0.0], [1.0, 0.0, 0.0]])
+    return np.eye(3)
+
+
+def _compute_solid(data: bytes, loader: str, path: Path, scale: np.ndarray) -> _Result:
     raw = load_triangles(data, loader, path)
     n = len(raw)
     if n == 0:
@@ -543,6 +584,40 @@ def _hull(verts: np.ndarray) -> tuple[MassProperties, np.ndarray] | None:
     return _props(it), hull.points[hull.vertices] + origin
 
 
+def mesh_hull_points(path: Path, scale: tuple[float, float, float] = (1.0, 1.0, 1.0), cache: MeshCache | None = None) -> np.ndarray | None:
+    """Every vertex of the convex hull of the scaled mesh (scipy, imported here), or None.
+
+    ``MeshEstimate.solid.points`` is a cheap subset whose hull lies inside the true one; call
+    this to confirm before reporting a point as outside a mesh. Cached like the estimate.
+    """
+    try:
+        path = Path(path)
+        loader = LOADERS.get(path.suffix.lower())
+        if loader is None:
+            return None
+        data: bytes | None = None
+        key = None
+        if cache is not None:
+            digest, data = cache.digest(path)
+            key = cache.key(digest, tuple(float(v) for v in scale), "hull-" + loader)  # type: ignore[arg-type]
+            hit = cache.get(key)
+            if hit is not None and isinstance(hit.get("hull"), list):
+                return np.array(hit["hull"], dtype=float).reshape(-1, 3)
+        if data is None:
+            data = path.read_bytes()
+        verts = np.asarray(load_triangles(data, loader, path), dtype=float).reshape(-1, 3) * np.asarray(scale, dtype=float)
+        if not np.isfinite(verts).all():
+            return None
+        hull = _hull(verts)
+        if hull is None:
+            return None
+        if cache is not None and key is not None:
+            cache.put(key, {"hull": hull[1].tolist()})
+        return hull[1]
+    except Exception:  # only ever a refinement: without it the caller keeps the cheap points
+        return None
+
+
 # --------------------------------------------------------------------------- units
 
 
@@ -595,6 +670,7 @@ def _to_payload(r: _Result) -> dict[str, Any]:
         "findings": [[f.rule, f.severity, f.message, f.data] for f in r.findings],
         "upper_bound": r.upper_bound,
         "triangles": r.triangles,
+        "up_axis": r.up_axis,
     }
 
 
@@ -604,13 +680,15 @@ def _from_payload(p: dict[str, Any] | None) -> _Result | None:
     try:
         findings = [Finding(str(rule), sev, str(msg), data=dict(data)) for rule, sev, msg, data in p["findings"]]
         s = p["solid"]
+        up = p.get("up_axis")
+        up = str(up) if up is not None else None
         if s is None:
-            return _Result(None, None, findings, bool(p["upper_bound"]), int(p["triangles"]))
+            return _Result(None, None, findings, bool(p["upper_bound"]), int(p["triangles"]), up)
         com = np.array(s["com"], dtype=float).reshape(3)
         inertia = np.array(s["inertia"], dtype=float).reshape(3, 3)
         points = np.array(s["points"], dtype=float).reshape(-1, 3)
         if not (np.isfinite(com).all() and np.isfinite(inertia).all() and len(points)):
             return None
-        return _Result(MassProperties(float(s["volume"]), com, inertia), points, findings, bool(p["upper_bound"]), int(p["triangles"]))
+        return _Result(MassProperties(float(s["volume"]), com, inertia), points, findings, bool(p["upper_bound"]), int(p["triangles"]), up)
     except (KeyError, TypeError, ValueError):
         return None
