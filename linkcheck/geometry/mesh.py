@@ -323,20 +323,24 @@ def _props(it: _Integral, sign: float = 1.0) -> MassProperties:
     return MassProperties(it.volume * sign, it.com.copy(), 0.5 * (inertia + inertia.T))
 
 
-def _extreme_points(x: np.ndarray, y: np.ndarray, z: np.ndarray) -> np.ndarray:
+def _extreme_points(cols: np.ndarray) -> np.ndarray:
     """Vertices extreme along 26 directions (axes, face and body diagonals, both ways) plus the one
     farthest from the reference point (the bounding-box centre).
 
     A cheap subset of the hull's vertices: exact for the bounding box and for the largest distance
-    from its centre; its hull lies inside the true hull (for a sphere-like mesh its inradius is
-    about 0.85 of the radius), so a point outside it is only probably outside the mesh.
+    from its centre (both searched over every corner); the diagonal directions search the first
+    corner of each triangle only, which nearly always includes every vertex. Its hull lies inside
+    the true hull (about 0.85 of a sphere's radius), so a point outside it is only probably outside
+    the mesh: ``mesh_hull_points`` confirms.
     """
-    idx = [x.argmin(), x.argmax(), y.argmin(), y.argmax(), z.argmin(), z.argmax()]
-    for combo in (x + y, x - y, y + z, y - z, x + z, x - z, x + y + z, x + y - z, x - y + z, y + z - x):
-        idx += [combo.argmin(), combo.argmax()]
-    idx.append((x * x + y * y + z * z).argmax())
-    sel = np.unique(np.array(idx))
-    return np.stack((x[sel], y[sel], z[sel]), axis=1)
+    x, y, z = cols.reshape(3, -1)
+    picks = [np.stack((x[i], y[i], z[i])) for i in (x.argmin(), x.argmax(), y.argmin(), y.argmax(), z.argmin(), z.argmax())]
+    picks.append(cols.reshape(3, -1)[:, int((x * x + y * y + z * z).argmax())])
+    x0, y0, z0 = cols[0, 0], cols[1, 0], cols[2, 0]
+    for combo in (x0 + y0, x0 - y0, y0 + z0, y0 - z0, x0 + z0, x0 - z0, x0 + y0 + z0, x0 + y0 - z0, x0 - y0 + z0, y0 + z0 - x0):
+        for i in (combo.argmax(), (-combo).argmax()):
+            picks.append(cols[:, 0, i])
+    return np.unique(np.array(picks), axis=0)
 
 
 def _compute(data: bytes, loader: str, path: Path, scale: np.ndarray) -> _Result:
@@ -365,7 +369,8 @@ def _compute_solid(data: bytes, loader: str, path: Path, scale: np.ndarray) -> _
     del raw
     flat = cols.reshape(3, -1)
     for k in range(3):
-        flat[k] *= scale[k]
+        if scale[k] != 1.0:
+            flat[k] *= scale[k]
     lo, hi = flat.min(axis=1), flat.max(axis=1)
     if not (np.isfinite(lo).all() and np.isfinite(hi).all()):
         bad = int((~np.isfinite(cols).all(axis=(0, 1))).sum())
@@ -381,7 +386,7 @@ def _compute_solid(data: bytes, loader: str, path: Path, scale: np.ndarray) -> _
     radius = 0.5 * float(np.linalg.norm(extent))
     it = integrate(cols, origin, radius)
     findings: list[Finding] = []
-    points = _extreme_points(*cols.reshape(3, -1)) + origin
+    points = _extreme_points(cols) + origin
     flat_tol = 1e-9 * it.area * radius
     if it.closure <= CLOSURE_TOL and abs(it.volume) > flat_tol:
         return _closed_result(it, points, n, findings)
