@@ -526,3 +526,22 @@ def test_dae_reports_its_up_axis(tmp_path: Path) -> None:
     rot = up_axis_rotation(est.up_axis)
     assert np.allclose(rot @ (0, 1, 0), (0, 0, 1)) and np.isclose(np.linalg.det(rot), 1.0)  # proper rotation, y -> z
     assert estimate(write_binary_stl(tmp_path / "b.stl", trimesh.creation.box((1, 1, 1)).triangles)).up_axis is None
+
+
+def test_submesh_selects_one_part_and_centers_it(tmp_path: Path) -> None:
+    scene = trimesh.Scene()
+    scene.add_geometry(trimesh.creation.box((1, 1, 1)), geom_name="small", node_name="small",
+                       transform=trimesh.transformations.translation_matrix((5.0, 0, 0)))
+    scene.add_geometry(trimesh.creation.box((2, 2, 2)), geom_name="big", node_name="big")
+    path = tmp_path / "parts.glb"
+    path.write_bytes(scene.export(file_type="glb"))
+    whole = estimate(path)
+    assert whole.solid.volume == pytest.approx(9.0, rel=1e-6)
+    small = mesh_estimate(path.name, tmp_path, (1, 1, 1), NO_ENV, None, submesh="small")
+    assert small.solid.volume == pytest.approx(1.0, rel=1e-6)
+    assert np.allclose(small.solid.props.com, (5.0, 0, 0), atol=1e-6)
+    # SDFormat <submesh><center>true</center>: Gazebo moves the part's box centre to the origin
+    centred = mesh_estimate(path.name, tmp_path, (1, 1, 1), NO_ENV, None, submesh="small", center=True)
+    assert np.allclose(centred.solid.props.com, 0, atol=1e-6)
+    missing = mesh_estimate(path.name, tmp_path, (1, 1, 1), NO_ENV, None, submesh="nope")
+    assert rules(missing) == ["mesh-unavailable"] and "big" in missing.findings[0].message

@@ -90,10 +90,18 @@ def mesh_estimate(
     *,
     max_extent: float = DEFAULT.mesh_max_extent,
     min_extent: float = DEFAULT.mesh_min_extent,
+    submesh: str | None = None,
+    center: bool = False,
 ) -> MeshEstimate:
-    """Resolve, load and integrate one mesh geometry. Never raises for bad input."""
+    """Resolve, load and integrate one mesh geometry. Never raises for bad input.
+
+    ``base_dir`` is the folder of the file that named the mesh (None: the working folder);
+    ``max_extent``/``min_extent`` come from Settings; ``submesh``/``center`` from SDFormat.
+    """
     try:
-        return _mesh_estimate(uri, Path(base_dir), tuple(float(s) for s in scale), search, cache, max_extent, min_extent)
+        base = Path(base_dir) if base_dir is not None else Path.cwd()
+        part = (submesh, bool(center)) if submesh else None
+        return _mesh_estimate(uri, base, tuple(float(s) for s in scale), search, cache, max_extent, min_extent, part)
     except MeshError as exc:
         return _unavailable(uri, None, str(exc))
     except Exception as exc:  # a loader's own bug must not become a traceback for the user
@@ -114,6 +122,7 @@ def _mesh_estimate(
     cache: MeshCache | None,
     max_extent: float,
     min_extent: float,
+    part: tuple[str, bool] | None,
 ) -> MeshEstimate:
     res: Resolution = resolve_uri(uri, base_dir, search)
     notes: tuple[Finding, ...] = ()
@@ -133,6 +142,7 @@ def _mesh_estimate(
     loader = LOADERS.get(ext)
     if loader is None:
         return _unavailable(uri, path, f"unsupported mesh format '{path.suffix}' (STL, OBJ, DAE, glTF/GLB, PLY, OFF)", notes)
+    variant = loader if part is None else f"{loader}|submesh={part[0]}|center={part[1]}"
 
     data: bytes | None = None
     key = None
@@ -141,7 +151,7 @@ def _mesh_estimate(
         st = path.stat()
     except OSError as exc:
         return _unavailable(uri, path, f"cannot be read ({exc.strerror or exc})", notes)
-    memo_key = (str(path.resolve()), st.st_size, st.st_mtime_ns, st.st_ino, scale, loader)
+    memo_key = (str(path.resolve()), st.st_size, st.st_mtime_ns, st.st_ino, scale, variant)
     # without a disk cache, a mesh named by several links is still computed once per process
     result: _Result | None = _MEMO.get(memo_key) if cache is None else None
     if result is None and cache is not None:
@@ -149,7 +159,7 @@ def _mesh_estimate(
             digest, data = cache.digest(path)
         except OSError as exc:
             return _unavailable(uri, path, f"cannot be read ({exc.strerror or exc})", notes)
-        key = cache.key(digest, scale, loader)  # type: ignore[arg-type]
+        key = cache.key(digest, scale, variant)  # type: ignore[arg-type]
         result = _from_payload(cache.get(key))
         cached = result is not None
     if result is None:
@@ -159,7 +169,7 @@ def _mesh_estimate(
             except OSError as exc:
                 return _unavailable(uri, path, f"cannot be read ({exc.strerror or exc})", notes)
         try:
-            result = _compute(data, loader, path, np.array(scale, dtype=float))
+            result = _compute(data, loader, path, np.array(scale, dtype=float), part)
         except MeshError as exc:
             # not cached: a failure may come from the environment (a missing optional reader)
             result = _Result(None, None, [Finding("mesh-unavailable", "error", str(exc))])
@@ -193,11 +203,20 @@ def _with_uri(f: Finding, uri: str, path: Path) -> Finding:
 # --------------------------------------------------------------------------- loading
 
 
-def load_triangles(data: bytes, loader: str, path: Path) -> np.ndarray:
-    """(n, 3, 3) triangle corners in file units (metres for DAE after ``<unit meter>``)."""
+def load_triangles(data: bytes, loader: str, path: Path, submesh: str | None = None, center: bool = False) -> np.ndarray:
+    """(n, 3, 3) triangle corners in file units (metres for DAE after ``<unit meter>``).
+
+    ``submesh`` keeps only the part with that geometry or node name (SDFormat ``<submesh>``);
+    ``center`` then moves its bounding-box centre to the origin, as Gazebo does.
+    """
     if loader == "stl":
+        if submesh:
+            raise MeshError(f"submesh '{submesh}' requested, but an STL file has no named parts")
         return _read_stl(data)
-    tris = _read_with_trimesh(path, data)
+    tris = _read_with_trimesh(path, data, submesh)
+    if submesh and center:
+        flat = tris.reshape(-1, 3)
+        tris = tris - 0.5 * (flat.min(axis=0) + flat.max(axis=0))
     if loader == "dae":
         match = _UNIT_RE.search(data)
         if match:
@@ -232,7 +251,7 @@ def _read_stl(data: bytes) -> np.ndarray:
     raise MeshError(f"binary STL is truncated: header says {count} triangles ({84 + 50 * count} bytes), file has {size}")
 
 
-def _read_with_trimesh(path: Path, data: bytes) -> np.ndarray:
+def _read_with_trimesh(path: Path, data: bytes, submesh: str | None = None) -> np.ndarray:
     import io
     import logging
 
@@ -250,8 +269,12 @@ def _read_with_trimesh(path: Path, data: bytes) -> np.ndarray:
     except Exception as exc:
         raise MeshError(f"corrupt or unreadable '.{ext}' file ({type(exc).__name__}: {exc})") from None
     parts = []
+    names: set[str] = set()
     for node in scene.graph.nodes_geometry:
         transform, geom_name = scene.graph[node]
+        names.update((str(node), str(geom_name)))
+        if submesh is not None and submesh not in (node, geom_name):
+            continue
         geom = scene.geometry.get(geom_name)
         if geom is None or not hasattr(geom, "faces") or len(geom.faces) == 0:
             continue
@@ -261,6 +284,8 @@ def _read_with_trimesh(path: Path, data: bytes) -> np.ndarray:
         if np.linalg.det(transform[:3, :3]) < 0:
             tris = tris[:, [0, 2, 1]]
         parts.append(tris)
+    if not parts and submesh is not None:
+        raise MeshError(f"submesh '{submesh}' not found (parts: {', '.join(sorted(names)) or 'none'})")
     if not parts:
         raise MeshError("the file holds no triangles")
     return np.concatenate(parts)
@@ -343,8 +368,8 @@ def _extreme_points(cols: np.ndarray) -> np.ndarray:
     return np.unique(np.array(picks), axis=0)
 
 
-def _compute(data: bytes, loader: str, path: Path, scale: np.ndarray) -> _Result:
-    result = _compute_solid(data, loader, path, scale)
+def _compute(data: bytes, loader: str, path: Path, scale: np.ndarray, part: tuple[str, bool] | None = None) -> _Result:
+    result = _compute_solid(data, loader, path, scale, part)
     if loader == "dae":
         match = _UP_RE.search(data)
         result.up_axis = match.group(1).decode() if match else "Y_UP"  # COLLADA's default
@@ -360,8 +385,8 @@ def up_axis_rotation(up_axis: str | None) -> np.ndarray:
     return np.eye(3)
 
 
-def _compute_solid(data: bytes, loader: str, path: Path, scale: np.ndarray) -> _Result:
-    raw = load_triangles(data, loader, path)
+def _compute_solid(data: bytes, loader: str, path: Path, scale: np.ndarray, part: tuple[str, bool] | None) -> _Result:
+    raw = load_triangles(data, loader, path, *(part or (None, False)))
     n = len(raw)
     if n == 0:
         raise MeshError("the file holds no triangles")
