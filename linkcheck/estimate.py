@@ -10,7 +10,9 @@ from __future__ import annotations
 from dataclasses import dataclass, field, replace
 from typing import Any
 
-from linkcheck.geometry.solid import Solid, primitive_solid, union
+import numpy as np
+
+from linkcheck.geometry.solid import Solid, once, primitive_solid, union
 from linkcheck.model import NON_SOLID_SHAPES, Body, Finding, Link
 from linkcheck.settings import Settings
 
@@ -94,11 +96,27 @@ class Estimator:
         if key not in self._meshes:
             from linkcheck.geometry.mesh import mesh_estimate
 
-            self._meshes[key] = mesh_estimate(shape.uri or "", shape.base_dir, shape.scale, self.search, self.cache)
+            self._meshes[key] = self._mesh(shape)
         result = self._meshes[key]
         if result.solid is None or not result.trusted:
             return None, list(result.findings), f"mesh '{shape.uri}' cannot be used for the estimate"
         return result.solid, list(result.findings), None
+
+    def _mesh(self, shape: Any) -> Any:
+        from linkcheck.geometry.mesh import mesh_estimate, mesh_hull_points
+
+        result = mesh_estimate(shape.uri or "", shape.base_dir, shape.scale, self.search, self.cache,
+                               max_extent=self.settings.mesh_max_extent, min_extent=self.settings.mesh_min_extent,
+                               submesh=shape.submesh, center=shape.center)
+        if result.solid is None or result.path is None or shape.submesh:
+            return result
+        cheap = result.solid.points
+
+        def hull() -> np.ndarray:
+            exact = mesh_hull_points(result.path, shape.scale, self.cache)
+            return cheap if exact is None else exact
+
+        return replace(result, solid=replace(result.solid, refine=once(hull)))
 
 
 def _solid_bodies(link: Link, role: str) -> list[Body]:

@@ -192,13 +192,20 @@ def _clear_by_groups(doc: Document, contexts: list[LinkContext], findings: list[
     for root, members in groups.items():
         if len(members) < 2:
             continue
+        orphans = [n for n, _ in members if _carries_mass(by_name[n]) and by_name[n].estimate is None]
+        if not orphans:
+            continue  # every mass has its own geometry: each link is judged on its own
         group = _group_context(by_name[root], [(by_name[n], p) for n, p in members])
         if group is None:
             continue
         still = {f.rule for f in evaluate(group)}
         cleared |= {(n, rule) for n, _ in members for rule in GROUP_RULES - still}
-        cleared |= {(n, "estimate-unavailable") for n, _ in members}  # judged through the group
+        cleared |= {(n, "estimate-unavailable") for n in orphans}  # judged through the group
     return [f for f in findings if (f.link, f.rule) not in cleared]
+
+
+def _carries_mass(ctx: LinkContext) -> bool:
+    return ctx.stated is not None and bool(np.isfinite(ctx.stated.mass)) and ctx.stated.mass > 0
 
 
 def _group_context(root: LinkContext, members: list[tuple[LinkContext, Pose]]) -> LinkContext | None:

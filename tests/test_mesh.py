@@ -407,7 +407,7 @@ def test_folder_name_note_becomes_an_info_finding(tmp_path: Path) -> None:
     (pkg / "package.xml").write_text("<package><name>my_robot_description</name></package>")
     write_binary_stl(pkg / "meshes" / "b.stl", trimesh.creation.box((0.1, 0.1, 0.1)).triangles)
     est = mesh_estimate("package://my_robot/meshes/b.stl", pkg / "urdf", (1, 1, 1), NO_ENV, None)
-    assert est.trusted and [(f.rule, f.severity) for f in est.findings] == [("mesh-note", "info")]
+    assert est.trusted and [(f.rule, f.severity) for f in est.findings] == [("geometry-note", "info")]
 
 
 def test_binary_stl_path_imports_neither_trimesh_nor_scipy(tmp_path: Path) -> None:

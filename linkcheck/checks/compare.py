@@ -183,8 +183,11 @@ def com_outside_geometry(ctx: LinkContext) -> Iterator[Finding]:
     from linkcheck.geometry.hull import distance_to_hull
 
     com = ctx.stated.com  # type: ignore[union-attr]
-    gap = distance_to_hull(ctx.estimate.points, com)  # type: ignore[union-attr]
+    est = ctx.estimate
+    gap = distance_to_hull(est.points, com)  # type: ignore[union-attr]
     size = ctx.diagonal
+    if gap > ctx.settings.com_outside_tolerance * size and est.approximate:  # type: ignore[union-attr]
+        gap = distance_to_hull(est.exact_points(), com)  # type: ignore[union-attr]
     if gap <= ctx.settings.com_outside_tolerance * size:
         return
     yield _finding(
@@ -217,7 +220,7 @@ def com_offset(ctx: LinkContext) -> Iterator[Finding]:
         severity,
         f"stated centre of mass is {words.length(dist)} from the geometric centroid (link is "
         f"{words.length(size)} across); the {ctx.geometry_source} geometry puts it at "
-        f"({', '.join(words.num(v) for v in est)}) m",
+        f"({', '.join(words.num(v if abs(v) > 1e-9 * size else 0.0) for v in est)}) m",
         distance=dist,
         fraction=dist / size,
     )

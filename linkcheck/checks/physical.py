@@ -94,9 +94,11 @@ def inertia_exceeds_geometry(ctx: LinkContext) -> Iterator[Finding]:
     from linkcheck.geometry.hull import max_distance
 
     lo, hi = e.points.min(axis=0), e.points.max(axis=0)
-    radius = max_distance(e.points, (lo + hi) / 2)
-    bound = ctx.settings.exceeds_geometry_factor * s.mass * radius**2
     half_trace = float(np.trace(s.inertia)) / 2
+    radius = max_distance(e.points, (lo + hi) / 2)
+    if half_trace > ctx.settings.exceeds_geometry_factor * s.mass * radius**2 and e.approximate:
+        radius = max_distance(e.exact_points(), (lo + hi) / 2)  # the cheap points may lie inside
+    bound = ctx.settings.exceeds_geometry_factor * s.mass * radius**2
     if half_trace <= bound:
         return
     yield _finding(

@@ -127,7 +127,7 @@ def _mesh_estimate(
     res: Resolution = resolve_uri(uri, base_dir, search)
     notes: tuple[Finding, ...] = ()
     if res.note:
-        notes = (Finding("mesh-note", "info", f"mesh '{uri}': {res.note}", data={"uri": uri}),)
+        notes = (Finding("geometry-note", "info", f"mesh '{uri}': {res.note}", data={"uri": uri}),)
     if res.path is None:
         reason = res.reason or "not found"
         tried = ""

@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from functools import lru_cache
 
 import numpy as np
 
@@ -16,22 +18,45 @@ class Solid:
 
     ``points`` (N, 3) lie on the body's boundary; their convex hull is the body's
     convex hull (exactly for polyhedra, closely for curved primitives). Same frame as ``props``.
+    For a large mesh they are a cheap subset whose hull lies inside the true one; ``refine``
+    then returns every hull vertex (costly, so rules call :meth:`exact_points` only to confirm
+    a point that looks outside).
     """
 
     props: MassProperties
     points: np.ndarray
+    refine: Callable[[], np.ndarray] | None = field(default=None, compare=False, repr=False)
 
     @property
     def volume(self) -> float:
         return self.props.mass
 
+    @property
+    def approximate(self) -> bool:
+        """True when ``points`` may lie inside the true hull (see ``exact_points``)."""
+        return self.refine is not None
+
+    def exact_points(self) -> np.ndarray:
+        return self.refine() if self.refine is not None else self.points
+
     def transformed(self, pose: Pose) -> Solid:
-        return Solid(self.props.transformed(pose.rotation, pose.translation), pose.apply(self.points))
+        refine = None
+        if self.refine is not None:
+            inner = self.refine
+            refine = once(lambda: pose.apply(inner()))
+        return Solid(self.props.transformed(pose.rotation, pose.translation), pose.apply(self.points), refine)
+
+
+def once(make: Callable[[], np.ndarray]) -> Callable[[], np.ndarray]:
+    return lru_cache(maxsize=1)(make)
 
 
 def union(solids: list[Solid]) -> Solid:
     """Several bodies as one uniform-density solid; overlapping volume is counted twice."""
-    return Solid(combine([s.props for s in solids]), np.vstack([s.points for s in solids]))
+    refine = None
+    if any(s.refine is not None for s in solids):
+        refine = once(lambda: np.vstack([s.exact_points() for s in solids]))
+    return Solid(combine([s.props for s in solids]), np.vstack([s.points for s in solids]), refine)
 
 
 def primitive_solid(shape: Shape) -> Solid:

@@ -1,0 +1,53 @@
+"""Mesh links get the same rules as primitive ones, with the mesh's exact hull where it matters.
+
+Reference geometry: trimesh.creation.icosphere (a general-purpose library), whose vertices lie
+on the sphere of the given radius; volume and inertia from trimesh's own mass_properties.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+import trimesh
+
+from linkcheck.formats.urdf import read_urdf
+from linkcheck.runner import check_document
+from linkcheck.settings import Settings
+
+
+def rules(tmp_path: Path, com_x: float, tensor: np.ndarray | None = None, mass: float = 4.0) -> set[str]:
+    ball = trimesh.creation.icosphere(subdivisions=4, radius=0.1)
+    ball.export(tmp_path / "ball.stl")
+    inertia = ball.moment_inertia * (mass / ball.volume) if tensor is None else tensor
+    urdf = (f'<robot name="r"><link name="ball"><inertial><origin xyz="{com_x} 0 0"/><mass value="{mass}"/>'
+            f'<inertia ixx="{inertia[0, 0]}" ixy="{inertia[0, 1]}" ixz="{inertia[0, 2]}" iyy="{inertia[1, 1]}" '
+            f'iyz="{inertia[1, 2]}" izz="{inertia[2, 2]}"/></inertial>'
+            '<collision><geometry><mesh filename="ball.stl"/></geometry></collision></link></robot>')
+    doc = read_urdf(tmp_path / "r.urdf", urdf.encode())
+    _, found = check_document(doc, Settings())
+    return {f.rule for f in found}
+
+
+def test_correct_mesh_link_is_clean(tmp_path):
+    assert rules(tmp_path, 0.0) == set()
+
+
+def test_com_near_the_surface_is_inside(tmp_path):
+    # 95 mm from the centre of a 100 mm sphere: inside, though outside a coarse subset of its vertices
+    found = rules(tmp_path, 0.095)
+    assert "com-outside-geometry" not in found and "com-offset" in found
+
+
+def test_com_beyond_the_surface_is_outside(tmp_path):
+    assert "com-outside-geometry" in rules(tmp_path, 0.12)
+
+
+@pytest.mark.parametrize("factor, expected", [(0.99, False), (1.05, True)])
+def test_exceeds_geometry_uses_the_true_radius(tmp_path, factor, expected):
+    # trace/2 <= m R^2 for any body inside a sphere of radius R (REFERENCES.md bound)
+    m, r = 4.0, 0.1
+    moment = factor * 1.01 * m * r * r * 2 / 3
+    found = rules(tmp_path, 0.0, np.diag([moment] * 3), m)
+    assert ("inertia-exceeds-geometry" in found) is expected
