@@ -103,17 +103,17 @@ class Estimator:
         return result.solid, list(result.findings), None
 
     def _mesh(self, shape: Any) -> Any:
-        from linkcheck.geometry.mesh import mesh_estimate, mesh_hull_points
+        from linkcheck.geometry.mesh import mesh_estimate, mesh_vertices
 
         result = mesh_estimate(shape.uri or "", shape.base_dir, shape.scale, self.search, self.cache,
                                max_extent=self.settings.mesh_max_extent, min_extent=self.settings.mesh_min_extent,
                                submesh=shape.submesh, center=shape.center)
-        if result.solid is None or result.path is None or shape.submesh:
+        if result.solid is None or result.path is None:
             return result
         cheap = result.solid.points
 
         def hull() -> np.ndarray:
-            exact = mesh_hull_points(result.path, shape.scale, self.cache)
+            exact = mesh_vertices(result.path, shape.scale, shape.submesh, shape.center)
             return cheap if exact is None else exact
 
         return replace(result, solid=replace(result.solid, refine=once(hull)))

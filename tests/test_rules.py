@@ -197,3 +197,11 @@ def test_select_ignore_and_severity_override():
     assert select(flat, Settings(ignore=("inertia-placeholder",))) == [f for f in flat if f.rule != "inertia-placeholder"]
     raised = select(flat, Settings(severity={"inertia-placeholder": "error"}))
     assert {f.severity for f in raised if f.rule == "inertia-placeholder"} == {"error"}
+
+
+def test_fixed_group_does_not_hide_a_link_whose_own_mass_and_geometry_disagree():
+    # both links carry their own mass and geometry: the group's average must not clear either
+    a = link("a", com="0.19 0 0")  # 0.19 m > 0.25 L from the box centroid (see test_com_offset_levels_and_outside)
+    b = link("b")
+    joint = '<joint name="j" type="fixed"><parent link="a"/><child link="b"/><origin xyz="2 0 0"/></joint>'
+    assert "com-offset" in rules_of(a, b, joints=joint)

@@ -614,6 +614,25 @@ def _hull(verts: np.ndarray) -> tuple[MassProperties, np.ndarray] | None:
     return _props(it), hull.points[hull.vertices] + origin
 
 
+def mesh_vertices(path: Path, scale: tuple[float, float, float] = (1.0, 1.0, 1.0),
+                  submesh: str | None = None, center: bool = False) -> np.ndarray | None:
+    """Every triangle corner of the scaled mesh, (3n, 3) float64, or None if it cannot be read.
+
+    Their convex hull is the mesh's hull: what a point-in-hull or largest-distance test needs,
+    without building the hull (GJK works on the points directly).
+    """
+    try:
+        path = Path(path)
+        loader = LOADERS.get(path.suffix.lower())
+        if loader is None:
+            return None
+        tris = load_triangles(path.read_bytes(), loader, path, submesh, center)
+        verts = np.asarray(tris, dtype=float).reshape(-1, 3) * np.asarray(scale, dtype=float)
+        return verts if np.isfinite(verts).all() else None
+    except Exception:  # only ever a refinement: without it the caller keeps the cheap points
+        return None
+
+
 def mesh_hull_points(path: Path, scale: tuple[float, float, float] = (1.0, 1.0, 1.0), cache: MeshCache | None = None) -> np.ndarray | None:
     """Every vertex of the convex hull of the scaled mesh (scipy, imported here), or None.
 
