@@ -143,18 +143,21 @@ def is_symmetric(inertia: np.ndarray, rtol: float = TENSOR_RTOL) -> bool:
     return bool(np.max(np.abs(i - i.T)) <= tolerance(i, rtol))
 
 
-def is_positive_definite(inertia: np.ndarray, rtol: float = TENSOR_RTOL) -> bool:
-    """Smallest principal moment above eps (a rod with a zero moment is not)."""
-    moments, _ = principal(inertia)
-    return bool(np.trace(inertia) > 0 and moments[0] > tolerance(inertia, rtol))
+def is_positive_definite(inertia: np.ndarray, rtol: float = TENSOR_RTOL, moments: np.ndarray | None = None) -> bool:
+    """Smallest principal moment above eps (a rod with a zero moment is not).
+
+    ``moments``: the tensor's principal moments, if already computed.
+    """
+    m = principal(inertia)[0] if moments is None else moments
+    return bool(np.trace(inertia) > 0 and m[0] > tolerance(inertia, rtol))
 
 
-def triangle_deficit(inertia: np.ndarray) -> float:
+def triangle_deficit(inertia: np.ndarray, moments: np.ndarray | None = None) -> float:
     """I3 - (I1 + I2) of the sorted principal moments; > eps breaks the triangle inequality."""
-    m = principal(inertia)[0]
+    m = principal(inertia)[0] if moments is None else moments
     return float(m[2] - m[0] - m[1])
 
 
-def satisfies_triangle(inertia: np.ndarray, rtol: float = TENSOR_RTOL) -> bool:
+def satisfies_triangle(inertia: np.ndarray, rtol: float = TENSOR_RTOL, moments: np.ndarray | None = None) -> bool:
     """I1 + I2 >= I3 - eps (a flat plate, I1 + I2 = I3, passes)."""
-    return triangle_deficit(inertia) <= tolerance(inertia, rtol)
+    return triangle_deficit(inertia, moments) <= tolerance(inertia, rtol)

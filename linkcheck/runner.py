@@ -77,35 +77,41 @@ def check_document(doc: Document, settings: Settings, estimator: Estimator | Non
     stated = {k.name: (k.inertial.mass_properties() if k.inertial is not None else None) for k in doc.links}
     masses = {name: (s.mass if s is not None and np.isfinite(s.mass) and s.mass > 0 else 0.0) for name, s in stated.items()}
 
-    contexts: list[LinkContext] = []
+    static = {k.name for k in doc.links if k.static or getattr(k.handle, "static", False)}
+    auto = {k.name for k in doc.links if k.inertial is not None and k.inertial.auto}
     estimates: dict[str, LinkEstimate] = {}
+    autos: dict[str, AutoInertia] = {}
     for link in doc.links:
-        static = link.static or getattr(link.handle, "static", False)
-        auto = link.inertial is not None and link.inertial.auto
-        s = None if auto else stated[link.name]
-        est = estimator.link(link, s.mass if s is not None else None)
-        estimates[link.name] = est
+        s = None if link.name in auto else stated[link.name]
+        estimates[link.name] = estimator.link(link, s.mass if s is not None else None)
+        if link.name in auto:
+            autos[link.name] = auto_inertia(link, estimates[link.name], settings)
+            masses[link.name] = autos[link.name].mass
+    subtree = _subtree_masses(doc, masses, children)
+
+    contexts: list[LinkContext] = []
+    for link in doc.links:
+        est = estimates[link.name]
+        s = None if link.name in auto else stated[link.name]
         ctx = LinkContext(
             path=doc.path,
             format=doc.format,
             link=link,
             settings=settings,
-            inertial=None if auto else link.inertial,
+            inertial=None if link.name in auto else link.inertial,
             stated=s,
             estimate=est.solid,
             geometry_source=est.source,
             estimate_reason=est.reason,
             parent_joint=parents.get(link.name),
-            subtree_mass=_subtree_mass(link.name, masses, children),
+            subtree_mass=subtree[link.name],
         )
         contexts.append(ctx)
-        if static:
+        if link.name in static:
             continue  # a static model's links are never moved: their inertia is unused
         findings.extend(est.findings)
-        if auto:
-            found = auto_inertia(link, est, settings)
-            findings.extend(found.findings)
-            masses[link.name] = found.mass
+        if link.name in auto:
+            findings.extend(autos[link.name].findings)
             continue
         found = evaluate(ctx)
         if s is not None and est.solid is None and s.mass > 0:
@@ -113,8 +119,7 @@ def check_document(doc: Document, settings: Settings, estimator: Estimator | Non
                                  f"link '{link.name}': {est.reason or 'no usable geometry'}: comparisons with the geometry skipped",
                                  link.name, link.line))
         findings.extend(found)
-    quiet = {k.name for k in doc.links if k.static or getattr(k.handle, "static", False)}
-    findings = [f for f in findings if f.link not in quiet or f.severity == "error"]
+    findings = [f for f in findings if f.link not in static or f.severity == "error"]
     findings = _clear_by_groups(doc, contexts, findings, parents, settings)
     return contexts, findings
 
@@ -167,12 +172,24 @@ def auto_inertia(link: Link, est: LinkEstimate, settings: Settings) -> AutoInert
     return AutoInertia(mass, out)
 
 
-def _subtree_mass(name: str, masses: dict[str, float], children: dict[str, list[Joint]], seen: set[str] | None = None) -> float:
-    seen = seen if seen is not None else set()
-    if name in seen:
-        return 0.0
-    seen.add(name)
-    return masses.get(name, 0.0) + sum(_subtree_mass(j.child, masses, children, seen) for j in children.get(name, []))
+def _subtree_masses(doc: Document, masses: dict[str, float], children: dict[str, list[Joint]]) -> dict[str, float]:
+    """Mass carried by each link and everything below it, in one iterative pass (cycles are cut)."""
+    out: dict[str, float] = {}
+    for top in doc.links:
+        stack, on_path = [(top.name, False)], set()
+        while stack:
+            name, done = stack.pop()
+            if done:
+                on_path.discard(name)
+                out[name] = masses.get(name, 0.0) + sum(out.get(j.child, 0.0) for j in children.get(name, [])
+                                                        if j.child not in on_path)
+                continue
+            if name in out or name in on_path:
+                continue
+            on_path.add(name)
+            stack.append((name, True))
+            stack.extend((j.child, False) for j in children.get(name, []))
+    return out
 
 
 def _clear_by_groups(doc: Document, contexts: list[LinkContext], findings: list[Finding],

@@ -52,8 +52,7 @@ def _comparable(ctx: LinkContext) -> bool:
 
 
 def _estimated(ctx: LinkContext) -> np.ndarray:
-    est = ctx.estimate_at_mass(ctx.stated.mass)  # type: ignore[union-attr]
-    return est.inertia  # type: ignore[union-attr]
+    return ctx.estimated.inertia  # type: ignore[union-attr]
 
 
 def _products(i: np.ndarray) -> np.ndarray:
@@ -114,7 +113,7 @@ def inertia_wrong_reference_point(ctx: LinkContext) -> Iterator[Finding]:
     if not _comparable(ctx):
         return
     s = ctx.stated
-    est = ctx.estimate_at_mass(s.mass)  # type: ignore[union-attr]
+    est = ctx.estimated
     at_origin = est.about(np.zeros(3))  # type: ignore[union-attr]
     if _rel(at_origin, est.inertia) <= ctx.settings.reference_point_matters:  # type: ignore[union-attr]
         return

@@ -3,12 +3,13 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 from pathlib import Path
 
 import numpy as np
 
 from linkcheck.geometry.solid import Solid
-from linkcheck.inertia import MassProperties
+from linkcheck.inertia import MassProperties, principal
 from linkcheck.model import Joint, Link, StatedInertial
 from linkcheck.settings import Settings
 
@@ -51,6 +52,18 @@ class LinkContext:
             return 0.0
         pts = self.estimate.points
         return float(np.linalg.norm(pts.max(axis=0) - pts.min(axis=0)))
+
+    @cached_property
+    def stated_moments(self) -> np.ndarray | None:
+        """Principal moments of the stated tensor, ascending (computed once for all rules)."""
+        return None if self.stated is None else principal(self.stated.inertia)[0]
+
+    @cached_property
+    def estimated(self) -> MassProperties | None:
+        """The estimate scaled to the stated mass (None without both)."""
+        if self.stated is None or not self.stated.mass > 0:
+            return None
+        return self.estimate_at_mass(self.stated.mass)
 
     def estimate_at_mass(self, mass: float) -> MassProperties | None:
         """The uniform-density estimate scaled to ``mass`` kg."""

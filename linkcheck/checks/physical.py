@@ -49,9 +49,9 @@ def inertia_not_positive_definite(ctx: LinkContext) -> Iterator[Finding]:
                            f"inertia tensor is all zero for a {words.kg(s.mass)} link: a body with mass "
                            "has positive moments about every axis")
         return
-    if mp.is_positive_definite(s.inertia, ctx.settings.tensor_rtol):
+    moments = ctx.stated_moments
+    if mp.is_positive_definite(s.inertia, ctx.settings.tensor_rtol, moments):
         return
-    moments = mp.principal(s.inertia)[0]
     low = "negative" if moments[0] < 0 else "zero"
     yield _finding(
         ctx,
@@ -67,11 +67,11 @@ def inertia_triangle_inequality(ctx: LinkContext) -> Iterator[Finding]:
     s = ctx.stated
     if s is None or not np.any(s.inertia):
         return
-    moments = mp.principal(s.inertia)[0]
-    if moments[0] <= 0 or mp.satisfies_triangle(s.inertia, ctx.settings.tensor_rtol):
+    moments = ctx.stated_moments
+    if moments[0] <= 0 or mp.satisfies_triangle(s.inertia, ctx.settings.tensor_rtol, moments):
         return
     i = s.inertia
-    deficit = mp.triangle_deficit(i) / moments[2]
+    deficit = mp.triangle_deficit(i, moments) / moments[2]
     if np.allclose(i - np.diag(np.diag(i)), 0, atol=mp.tolerance(i, ctx.settings.tensor_rtol)):
         order = np.argsort(np.diag(i))
         axis = ("ixx", "iyy", "izz")
