@@ -100,6 +100,9 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("linkcheck: interrupted", file=sys.stderr)
         return 2
+    except BrokenPipeError:  # the reader of our output went away (| head): stop quietly
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 1
     except Exception as exc:  # noqa: BLE001 - a user never sees a traceback
         if os.environ.get("LINKCHECK_DEBUG"):
             raise

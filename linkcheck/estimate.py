@@ -67,7 +67,7 @@ class Estimator:
         notes: list[Finding] = []
         for body in link.bodies_of(role):
             if body.shape is None:
-                return LinkEstimate(None, role, f"a {role} geometry is malformed", tuple(notes))
+                return LinkEstimate(None, role, f"a {role} geometry could not be read (see the finding at its line)", tuple(notes))
             if body.shape.kind in NON_SOLID_SHAPES:
                 notes.append(Finding("geometry-note", "info",
                                      f"link '{link.name}': {body.shape.kind} {role} carries no volume: skipped",

@@ -108,7 +108,8 @@ def plan_fix(ctx: LinkContext, findings: list[Finding], options: FixOptions) -> 
     blocking = [r for r in NEVER_FIXABLE if r in rules]
     if not active:
         # estimate-unavailable alone blocks nothing: its own message already says why.
-        shown = [r for r in blocking if r != "estimate-unavailable"]
+        shown = [r for r in blocking if r != "estimate-unavailable"
+                 and any(f.rule == r and not f.data.get("xacro") for f in mine)]  # xacro notes are no request
         if shown and _fixing(options):
             return Refusal(ctx.name, shown[0], _never_reason(ctx, shown[0], mine))
         return None
@@ -145,7 +146,9 @@ def _active_rules(rules: set[str], options: FixOptions) -> tuple[str, ...]:
 
 def _never_reason(ctx: LinkContext, rule: str, findings: list[Finding]) -> str:
     if rule == "value-malformed":
-        return "a value of the block does not parse; correct it by hand (the fix never guesses numbers)"
+        if any(f.rule == rule and f.data.get("xacro") for f in findings):
+            return "the link holds xacro expressions; edit the .xacro source (expand it with xacro to check the numbers)"
+        return "a value of the link does not parse; correct it by hand (the fix never guesses numbers)"
     if rule == "mesh-unavailable":
         return "a mesh of the link cannot be read, so its geometry is unknown; fix the mesh reference first"
     reason = ctx.estimate_reason or next((f.message for f in findings if f.rule == rule), "")

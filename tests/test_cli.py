@@ -123,3 +123,33 @@ def test_python_api_returns_the_json_entry():
     entry = linkcheck.check_file(DEMO / "harvester.urdf")
     assert entry["format"] == "urdf"
     assert {f["rule"] for f in entry["findings"]} >= {"inertia-placeholder", "inertial-missing"}
+
+
+XACRO = """<?xml version="1.0"?>
+<robot name="arm" xmlns:xacro="http://www.ros.org/wiki/xacro">
+  <xacro:macro name="box_inertial" params="m x y z">
+    <inertial><mass value="${m}"/><inertia ixx="${m*(y*y+z*z)/12}" ixy="0" ixz="0" iyy="${m*(x*x+z*z)/12}" iyz="0" izz="${m*(x*x+y*y)/12}"/></inertial>
+  </xacro:macro>
+  <link name="base">
+    <xacro:box_inertial m="2" x="0.4" y="0.1" z="0.2"/>
+    <collision><geometry><box size="0.4 0.1 0.2"/></geometry></collision>
+  </link>
+</robot>
+"""
+
+
+def test_xacro_macro_inertial_is_not_called_missing_and_never_rewritten(tmp_path):
+    f = tmp_path / "arm.urdf.xacro"
+    f.write_text(XACRO)
+    p = run("--format", "json", str(f))
+    rules = {x["rule"] for x in json.loads(p.stdout)["files"][0]["findings"]}
+    assert "inertial-missing" not in rules and "value-malformed" in rules
+    fixed = run("--fix", str(f))
+    assert f.read_text() == XACRO and "not fixed" not in fixed.stdout
+
+
+def test_closed_pipe_is_not_an_internal_error():
+    # `linkcheck ... | head -1`: the reader goes away; no traceback, no "internal error"
+    p = subprocess.run(f"{sys.executable} -m linkcheck {DEMO} | head -1", shell=True, cwd=ROOT,
+                       capture_output=True, text=True, timeout=120)
+    assert "Traceback" not in p.stderr and "internal error" not in p.stderr

@@ -67,6 +67,7 @@ class _Reader:
                 f"{self._who()}{what} is '{raw}': {XACRO_NOTE}",
                 link=self.link or None,
                 line=self.xml.line(el),
+                data={"xacro": True},
             )
         )
 
@@ -210,6 +211,8 @@ class _Reader:
         xacro_el = next((e for e in el.iter() if _is_xacro(e)), None)
         if xacro_el is not None and not self.expression:
             self.expression_found(xacro_el, "content", f"<xacro:{_local(xacro_el)}>")
+        if xacro_el is not None and state == "absent":
+            state = "malformed"  # a macro may well write the block: unknown, not missing
         link = Link(self.link, line, stated, state, bodies)  # type: ignore[arg-type]
         link.suppressions = self.suppressions(el)
         writable = self.xml.encoding_ok and not self.expression
