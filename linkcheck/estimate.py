@@ -13,7 +13,7 @@ from typing import Any
 import numpy as np
 
 from linkcheck.geometry.solid import Solid, once, primitive_solid, union
-from linkcheck.model import NON_SOLID_SHAPES, Body, Finding, Link
+from linkcheck.model import NON_SOLID_SHAPES, Body, Finding, Link, Pose
 from linkcheck.settings import Settings
 
 
@@ -23,6 +23,10 @@ class LinkEstimate:
     source: str | None = None  # "collision" | "visual"
     reason: str | None = None  # why there is no solid
     findings: tuple[Finding, ...] = ()
+    #: The estimate with every COLLADA mesh turned by its <up_axis>, which ROS tools and the
+    #: estimate ignore; set only when some mesh declares a non-Z up axis (names it in ``up_axis``).
+    up_axis_solid: Solid | None = None
+    up_axis: str | None = None
 
 
 @dataclass
@@ -64,15 +68,14 @@ class Estimator:
 
     def _estimate(self, link: Link, role: str) -> LinkEstimate:
         solids: list[Solid] = []
+        turned: list[Solid] = []
+        axes: set[str] = set()
         notes: list[Finding] = []
         for body in link.bodies_of(role):
             if body.shape is None:
                 return LinkEstimate(None, role, f"a {role} geometry could not be read (see the finding at its line)", tuple(notes))
             if body.shape.kind in NON_SOLID_SHAPES:
-                notes.append(Finding("geometry-note", "info",
-                                     f"link '{link.name}': {body.shape.kind} {role} carries no volume: skipped",
-                                     link.name, body.line))
-                continue
+                continue  # no volume: the reader has said so where it read the shape
             solid, found, why = self._body_solid(body)
             notes.extend(replace(f, link=link.name, line=body.line,
                                  message=f.message if f.message.startswith("link '") else f"link '{link.name}': {f.message}")
@@ -80,9 +83,26 @@ class Estimator:
             if solid is None:
                 return LinkEstimate(None, role, why, tuple(notes))
             solids.append(solid.transformed(body.pose))
+            up = self._up_axis(body)
+            turned.append(solid.transformed(body.pose.compose(Pose(up[1]))) if up else solids[-1])
+            axes |= {up[0]} if up else set()
         if not solids:
             return LinkEstimate(None, None, "the link has no geometry with volume", tuple(notes))
-        return LinkEstimate(union(solids), role, None, tuple(notes))
+        alternative = union(turned) if axes else None
+        return LinkEstimate(union(solids), role, None, tuple(notes), alternative, ", ".join(sorted(axes)) or None)
+
+    def _up_axis(self, body: Body) -> tuple[str, np.ndarray] | None:
+        """(up_axis, rotation) of a COLLADA mesh body whose up axis is not +z, else None."""
+        shape = body.shape
+        if shape is None or shape.kind != "mesh":
+            return None
+        result = self._meshes.get(_mesh_key(shape))
+        axis = getattr(result, "up_axis", None)
+        if axis not in ("X_UP", "Y_UP"):
+            return None
+        from linkcheck.geometry.mesh import up_axis_rotation
+
+        return axis, up_axis_rotation(axis)
 
     def _body_solid(self, body: Body) -> tuple[Solid | None, list[Finding], str | None]:
         shape = body.shape
@@ -92,7 +112,7 @@ class Estimator:
                 return primitive_solid(shape), [], None
             except ValueError as exc:
                 return None, [Finding("value-malformed", "error", f"{shape.kind} {exc}")], f"its {shape.kind} is malformed"
-        key = (shape.uri, str(shape.base_dir), tuple(shape.scale), shape.submesh, shape.center)
+        key = _mesh_key(shape)
         if key not in self._meshes:
             from linkcheck.geometry.mesh import mesh_estimate
 
@@ -117,6 +137,10 @@ class Estimator:
             return cheap if exact is None else exact
 
         return replace(result, solid=replace(result.solid, refine=once(hull)))
+
+
+def _mesh_key(shape: Any) -> tuple:
+    return (shape.uri, str(shape.base_dir), tuple(shape.scale), shape.submesh, shape.center)
 
 
 def _solid_bodies(link: Link, role: str) -> list[Body]:

@@ -229,11 +229,13 @@ _CATALOGUE: tuple[Rule, ...] = (
     Rule(
         "geometry-note",
         "info",
-        "How the estimate was made, where it matters.",
-        "Says how a link's uniform-density estimate was built when that is not the plain default: a "
-        "shape without volume (plane, heightmap, ...) was skipped, the visual geometry was used because "
-        "the collision proxy is far too small for the stated mass, or a package was found by its "
-        "folder name rather than its package.xml. Nothing to fix; read it before trusting a comparison.",
+        "What was read, and how the estimate was made, where it matters.",
+        "Says how a link's uniform-density estimate was built when that is not the plain default, or what "
+        "could not be part of it: a shape without volume (plane, heightmap, ...) was skipped, the visual "
+        "geometry was used because the collision proxy is far too small for the stated mass, a package "
+        "was found by its folder name rather than its package.xml, an SDF <include> was not found, a "
+        "mesh's COLLADA up_axis would explain the stated centre of mass. Nothing to fix; read it before "
+        "trusting a comparison.",
     ),
     Rule(
         "suppression-unused",

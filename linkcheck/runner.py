@@ -114,6 +114,7 @@ def check_document(doc: Document, settings: Settings, estimator: Estimator | Non
             findings.extend(autos[link.name].findings)
             continue
         found = evaluate(ctx)
+        found.extend(_up_axis_note(ctx, est, found))
         if s is not None and est.solid is None and s.mass > 0:
             found.append(Finding("estimate-unavailable", "info",
                                  f"link '{link.name}': {est.reason or 'no usable geometry'}: comparisons with the geometry skipped",
@@ -122,6 +123,22 @@ def check_document(doc: Document, settings: Settings, estimator: Estimator | Non
     findings = [f for f in findings if f.link not in static or f.severity == "error"]
     findings = _clear_by_groups(doc, contexts, findings, parents, settings)
     return contexts, findings
+
+
+def _up_axis_note(ctx: LinkContext, est: LinkEstimate, found: list[Finding]) -> list[Finding]:
+    """DESIGN.md trap: a stated COM that fits the mesh only once turned by its COLLADA up_axis."""
+    if est.up_axis_solid is None or ctx.stated is None or ctx.diagonal <= 0:
+        return []
+    if not any(f.rule in ("com-offset", "com-outside-geometry") for f in found):
+        return []
+    gap = float(np.linalg.norm(ctx.stated.com - est.up_axis_solid.props.com))
+    if gap > ctx.settings.com_offset_info * ctx.diagonal:
+        return []
+    return [Finding("geometry-note", "info",
+                    f"link '{ctx.name}': the stated centre of mass fits the mesh turned by its COLLADA up_axis "
+                    f"({est.up_axis}); ROS tools and simulators ignore up_axis, so they use the mesh as the estimate "
+                    "does: the COM was probably computed in the CAD tool's axes; re-export the mesh Z-up or "
+                    "recompute the block", ctx.name, ctx.line)]
 
 
 @dataclass(frozen=True)

@@ -51,3 +51,30 @@ def test_exceeds_geometry_uses_the_true_radius(tmp_path, factor, expected):
     moment = factor * 1.01 * m * r * r * 2 / 3
     found = rules(tmp_path, 0.0, np.diag([moment] * 3), m)
     assert ("inertia-exceeds-geometry" in found) is expected
+
+
+def _dae_box_at_y(tmp_path: Path, up_axis: str) -> Path:
+    box = trimesh.creation.box(extents=(0.1, 0.1, 0.1))
+    box.apply_translation((0.0, 0.2, 0.0))
+    text = trimesh.exchange.dae.export_collada(box).decode()
+    assert "<up_axis>" in text
+    import re
+
+    (tmp_path / "part.dae").write_text(re.sub(r"<up_axis>.*?</up_axis>", f"<up_axis>{up_axis}</up_axis>", text))
+    return tmp_path / "part.dae"
+
+
+@pytest.mark.parametrize("up_axis, noted", [("Y_UP", True), ("Z_UP", False)])
+def test_up_axis_explains_a_com_off_the_mesh(tmp_path, up_axis, noted):
+    # COLLADA 1.4 <up_axis> (spec, from memory): Y_UP means +y is up; a loader honouring it turns
+    # +y onto +z, so the box centred at y = 0.2 sits at z = 0.2. ROS tools ignore up_axis (FORMATS.md §4).
+    _dae_box_at_y(tmp_path, up_axis)
+    m = 1.0
+    i = m * (0.1**2 + 0.1**2) / 12  # handbook: cube
+    urdf = (f'<robot name="r"><link name="part"><inertial><origin xyz="0 0 0.2"/><mass value="{m}"/>'
+            f'<inertia ixx="{i}" ixy="0" ixz="0" iyy="{i}" iyz="0" izz="{i}"/></inertial>'
+            '<collision><geometry><mesh filename="part.dae"/></geometry></collision></link></robot>')
+    _, found = check_document(read_urdf(tmp_path / "r.urdf", urdf.encode()), Settings())
+    rules = [f.rule for f in found]
+    assert "com-outside-geometry" in rules
+    assert ("geometry-note" in rules) is noted

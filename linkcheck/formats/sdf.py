@@ -387,7 +387,7 @@ class _Reader:
                 link,
             )
         if kind in NON_SOLID_SHAPES:
-            self.finding("estimate-unavailable", "info", f"{what}: {kind} carries no volume: skipped", sel, link)
+            self.finding("geometry-note", "info", f"{what}: {kind} carries no volume: skipped", sel, link)
             return Shape(kind)
         if kind == "mesh":
             return self.mesh(sel, what, link)
@@ -451,7 +451,7 @@ class _Reader:
         target = find_include(uri, self.xml.path.parent, self.ctx.search)
         if target is None:
             self.finding(
-                "estimate-unavailable",
+                "geometry-note",
                 "info",
                 f"<include> '{uri}' not found (looked beside this file, in the model paths and in "
                 "GZ_SIM_RESOURCE_PATH/SDF_PATH): its links are left out of the whole-model picture",
@@ -459,20 +459,20 @@ class _Reader:
             )
             return
         if target in self.ctx.seen or self.ctx.depth >= MAX_INCLUDE_DEPTH:
-            self.finding("estimate-unavailable", "info", f"<include> '{uri}' includes itself: not followed", el)
+            self.finding("geometry-note", "info", f"<include> '{uri}' includes itself: not followed", el)
             return
         try:
             data = target.read_bytes()
             sub_xml = parse_xml(target, data)
         except (OSError, XmlError) as exc:
-            self.finding("estimate-unavailable", "info", f"<include> '{uri}' ({target}) cannot be read: {exc}", el)
+            self.finding("geometry-note", "info", f"<include> '{uri}' ({target}) cannot be read: {exc}", el)
             return
         model_el = None
         if _local(sub_xml.root) == "sdf":
             models = _children(sub_xml.root, "model")
             model_el = models[0] if models else None
         if model_el is None:
-            self.finding("estimate-unavailable", "info", f"<include> '{uri}' ({target}) holds no <model>", el)
+            self.finding("geometry-note", "info", f"<include> '{uri}' ({target}) holds no <model>", el)
             return
         name = _text(_child(el, "name")) or model_el.get("name") or target.stem
         sub_doc = Document(target, "sdf", data, writable=False)
