@@ -146,7 +146,8 @@ def _report(args: argparse.Namespace, session: Any, results: list[Any], problems
         for r in changed:
             write_atomic(r.path, r.new_data)
             written += 1
-    entries = [file_entry(r, _display(r.path)) for r in results]
+    shown = [r.unwritten() for r in results] if args.diff else results  # nothing written: report the file on disk
+    entries = [file_entry(r, _display(r.path)) for r in shown]
     report = build_report(entries, changed=len(changed))
     fatal = any(r.document.fatal for r in results)
     for r in results:
@@ -173,7 +174,7 @@ def _report(args: argparse.Namespace, session: Any, results: list[Any], problems
             _print_fixes(out, results, args.diff, color)
         from linkcheck.report.text import render_text
 
-        render_text(report, out, color, args.quiet)
+        render_text(report, out, color, args.quiet, pending=args.diff)
     out.flush()
     if fatal or problems:
         return 2

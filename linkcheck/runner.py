@@ -34,10 +34,18 @@ class FileResult:
     fix_lines: list[str] = field(default_factory=list)  # one summary line per changed link
     refusals: list[str] = field(default_factory=list)
     estimated: bool = False  # some written value came from the uniform-density estimate
+    #: contexts and findings of the file as it is on disk, kept when a fix replaced them with the fixed file's
+    on_disk: tuple[list[LinkContext], list[Finding]] | None = None
 
     @property
     def changed(self) -> bool:
         return self.new_data is not None and self.new_data != self.document.data
+
+    def unwritten(self) -> FileResult:
+        """This result as the file on disk reads when the fix is only shown (--diff): its lines, its findings."""
+        if self.on_disk is None:
+            return self
+        return replace(self, contexts=self.on_disk[0], findings=self.on_disk[1])
 
 
 def read_document(path: Path, data: bytes | None = None, search: Any = None) -> Document:
@@ -330,6 +338,7 @@ def _plan_and_splice(result: FileResult, settings: Settings, options: RunOptions
     result.fix_lines = [p.summary for p in plans.values()]
     result.estimated = any(p.estimated for p in plans.values())
     contexts, raw = check_document(again, settings, estimator)
+    result.on_disk = (result.contexts, result.findings)
     result.contexts, result.findings = contexts, _visible(raw, settings, again)
 
 

@@ -62,3 +62,41 @@ def test_identity_filler_in_a_rotated_inertial_frame_is_named_the_identity():
             '</link></robot>')
     found = rules(urdf)
     assert "identity" in found["inertia-placeholder"][0].message
+
+
+SHIFTING = """<robot name="qa">
+  <link name="hopper">
+    <collision><geometry><box size="0.2 0.1 0.1"/></geometry></collision>
+  </link>
+  <joint name="j" type="revolute"><parent link="hopper"/><child link="chute"/><axis xyz="0 0 1"/>
+    <limit lower="-1" upper="1" effort="1" velocity="1"/></joint>
+  <link name="chute">
+    <collision><geometry><box size="0.3 0.05 0.05"/></geometry></collision>
+    <inertial><mass value="1"/><inertia ixx="0.01" ixy="0" ixz="0" iyy="0.01" iyz="0" izz="0.01"/></inertial>
+  </link>
+</robot>
+"""
+
+
+def test_diff_reports_the_lines_of_the_file_on_disk(tmp_path):
+    # --fill-missing inserts a 6-line block into 'hopper', which would move 'chute' down; --diff writes
+    # nothing, so every reported line must still be a line of the unchanged file (counted here by hand).
+    path = tmp_path / "hopper.urdf"
+    path.write_text(SHIFTING)
+    chute_line = SHIFTING.splitlines().index('  <link name="chute">') + 1  # 7
+    p = run("--fill-missing", "--density", "1000", "--diff", "--format", "json", "hopper.urdf", cwd=tmp_path)
+    assert p.returncode == 1, p.stderr
+    assert path.read_text() == SHIFTING
+    entry = json.loads(p.stdout)["files"][0]
+    assert {k["name"]: k["line"] for k in entry["links"]}["chute"] == chute_line
+    lines = {f["line"] for f in entry["findings"] if f["link"] == "chute"}
+    assert lines and all(SHIFTING.splitlines()[n - 1].strip().startswith(("<link", "<inertia")) for n in lines)
+    text = run("--fill-missing", "--density", "1000", "--diff", "hopper.urdf", cwd=tmp_path)
+    inertial_line = next(n for n, t in enumerate(SHIFTING.splitlines(), 1) if "<inertial>" in t)  # 9
+    assert f"hopper.urdf:{inertial_line}  chute  warning  inertia-placeholder" in text.stdout, text.stdout
+    assert text.stdout.rstrip().endswith("1 file would change"), text.stdout
+    # the written fix reports the fixed file, whose lines did move
+    p = run("--fill-missing", "--density", "1000", "hopper.urdf", cwd=tmp_path)
+    assert p.returncode == 1 and path.read_text() != SHIFTING
+    assert path.read_text().splitlines().index('  <link name="chute">') + 1 > chute_line
+    assert p.stdout.rstrip().endswith("1 file changed"), p.stdout

@@ -19,19 +19,20 @@ def finding_line(path: str, f: dict[str, Any]) -> tuple[str, ...]:
     return where, f.get("link") or "-", f["severity"], f["rule"], message
 
 
-def summary_line(summary: dict[str, int]) -> str:
+def summary_line(summary: dict[str, int], pending: bool = False) -> str:
+    """The totals; ``pending``: the changes were only shown (--diff), nothing was written."""
     def plural(n: int, word: str) -> str:
         return f"{n} {word}{'' if n == 1 else 's'}"
 
     parts = [plural(summary["errors"], "error"), plural(summary["warnings"], "warning"), plural(summary["infos"], "info")]
     text = f"{plural(summary['files'], 'file')}, {plural(summary['links'], 'link')}: " + ", ".join(parts)
     if summary.get("changed"):
-        text += f"; {plural(summary['changed'], 'file')} changed"
+        text += f"; {plural(summary['changed'], 'file')} {'would change' if pending else 'changed'}"
     return text
 
 
-def render_text(report: dict[str, Any], stream: IO[str], color: bool, quiet: bool = False) -> None:
-    """Write the report. ``quiet`` drops infos and the summary."""
+def render_text(report: dict[str, Any], stream: IO[str], color: bool, quiet: bool = False, pending: bool = False) -> None:
+    """Write the report. ``quiet`` drops infos and the summary; ``pending``: see summary_line."""
     rows: list[tuple[str, ...]] = []
     for entry in report["files"]:
         found = [f for f in entry["findings"] if not (quiet and f["severity"] == "info")]
@@ -40,15 +41,15 @@ def render_text(report: dict[str, Any], stream: IO[str], color: bool, quiet: boo
             rows.append(())
         rows.extend(finding_line(entry["path"], f) for f in found)
     if color:
-        _render_rich(rows, report["summary"], stream, quiet)
+        _render_rich(rows, report["summary"], stream, quiet, pending)
         return
     for row in rows:
         stream.write("  ".join(row) + "\n" if row else "\n")
     if not quiet:
-        stream.write(("\n" if rows else "") + summary_line(report["summary"]) + "\n")
+        stream.write(("\n" if rows else "") + summary_line(report["summary"], pending) + "\n")
 
 
-def _render_rich(rows: list[tuple[str, ...]], summary: dict[str, int], stream: IO[str], quiet: bool) -> None:
+def _render_rich(rows: list[tuple[str, ...]], summary: dict[str, int], stream: IO[str], quiet: bool, pending: bool) -> None:
     from rich.console import Console
     from rich.text import Text
 
@@ -72,4 +73,4 @@ def _render_rich(rows: list[tuple[str, ...]], summary: dict[str, int], stream: I
         worst = "error" if summary["errors"] else "warning" if summary["warnings"] else None
         if rows:
             console.print()
-        console.print(Text(summary_line(summary), SEVERITY_STYLE[worst] if worst else "green"))
+        console.print(Text(summary_line(summary, pending), SEVERITY_STYLE[worst] if worst else "green"))
