@@ -24,6 +24,8 @@ from linkcheck.formats.xml import XmlError, XmlFile, parse_xml, suppressions
 from linkcheck.model import Body, Document, Finding, Joint, Link, Pose, Shape, StatedInertial
 
 XACRO_NOTE = "value is a xacro expression; expand the file to check it"
+LEFTOVER_NOTE = ("an unexpanded xacro expression in a file with no xacro definitions: URDF parsers cannot read it "
+                 "(expand the .xacro source with xacro, or write the number)")
 _NUMBER = re.compile(r"\s*[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?\s*\Z")
 _EXPRESSION = re.compile(r"\$[{(]")
 _SHAPE_ATTRS = {"box": ("size",), "cylinder": ("radius", "length"), "sphere": ("radius",), "capsule": ("radius", "length")}
@@ -48,6 +50,9 @@ class _Reader:
         self.path, self.xml, self.doc = path, xml, doc
         self.link = ""
         self.expression = False
+        # a xacro source (by name or by its xacro elements) is checked as far as it goes; an expanded
+        # description has no xacro elements left, so a ${...} in it is a value no consumer can read
+        self.xacro_source = path.suffix.lower() == ".xacro" or any(_is_xacro(e) for e in xml.root.iter())
 
     # --- findings
     def _who(self) -> str:
@@ -63,8 +68,8 @@ class _Reader:
         self.doc.findings.append(
             Finding(
                 "value-malformed",
-                "info",
-                f"{self._who()}{what} is '{raw}': {XACRO_NOTE}",
+                "info" if self.xacro_source else "error",
+                f"{self._who()}{what} is '{raw}': {XACRO_NOTE if self.xacro_source else LEFTOVER_NOTE}",
                 link=self.link or None,
                 line=self.xml.line(el),
                 data={"xacro": True},
