@@ -129,3 +129,38 @@ def test_xacro_leftover_in_an_expanded_urdf_is_an_error(tmp_path):
     (tmp_path / "source.urdf").write_text(LEFTOVER.replace("<link", '<xacro:property name="tank_mass" value="5"/>\n  <link', 1))
     p = run("source.urdf", cwd=tmp_path)
     assert p.returncode == 0 and "info  value-malformed" in p.stdout, p.stdout
+
+
+def _nine(x: float) -> str:
+    return f"{x:.9g}"  # what CAD exports and hand-written files typically carry
+
+
+def test_fix_keeps_tensor_texts_that_already_say_the_right_number(tmp_path):
+    import difflib
+
+    # palm: 0.08 x 0.04 x 0.02 box of 0.25 kg; handbook moments written to 9 digits, COM moved off the body.
+    # --fix recomputes COM and tensor; the tensor texts are right to 1e-9 and must stay byte-identical.
+    ixx, iyy, izz = box_moments(0.25, 0.08, 0.04, 0.02)
+    urdf = ('<robot name="qa">\n  <link name="palm">\n'
+            '    <collision><origin xyz="0 0 0.01"/><geometry><box size="0.08 0.04 0.02"/></geometry></collision>\n'
+            '    <inertial>\n      <origin xyz="0.3 0 0.01" rpy="0 0 0"/>\n      <mass value="0.25"/>\n'
+            f'      <inertia ixx="{_nine(ixx)}" ixy="0" ixz="0" iyy="{_nine(iyy)}" iyz="0" izz="{_nine(izz)}"/>\n'
+            '    </inertial>\n  </link>\n</robot>\n')
+    sdf = ('<?xml version="1.0"?>\n<sdf version="1.9">\n  <model name="qa">\n    <link name="palm">\n'
+           '      <inertial>\n        <pose>0.3 0 0.01 0 0 0</pose>\n        <mass>0.25</mass>\n'
+           f'        <inertia><ixx>{_nine(ixx)}</ixx><ixy>0</ixy><ixz>0</ixz><iyy>{_nine(iyy)}</iyy><iyz>0</iyz>'
+           f'<izz>{_nine(izz)}</izz></inertia>\n'
+           '      </inertial>\n      <collision name="c"><pose>0 0 0.01 0 0 0</pose>'
+           '<geometry><box><size>0.08 0.04 0.02</size></box></geometry></collision>\n    </link>\n  </model>\n</sdf>\n')
+    for name, text, fixed in (("palm.urdf", urdf, '<origin xyz="0 0 0.01" rpy="0 0 0"/>'),
+                              ("palm.sdf", sdf, "<pose>0 0 0.01 0 0 0</pose>")):
+        path = tmp_path / name
+        path.write_text(text)
+        p = run("--fix", name, cwd=tmp_path)
+        assert p.returncode == 1, p.stdout + p.stderr
+        changed = [line for line in difflib.unified_diff(text.splitlines(), path.read_text().splitlines(), lineterm="", n=0)
+                   if line[:1] in "+-" and not line.startswith(("+++", "---"))]
+        assert [c[1:].strip() for c in changed if c.startswith("+")] == [fixed], changed
+        assert len(changed) == 2, changed
+        again = run("--fix", name, cwd=tmp_path)
+        assert again.returncode == 0, again.stdout

@@ -9,6 +9,7 @@ test the intended tensor passes still passes.
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 from typing import Callable
 
@@ -18,6 +19,9 @@ from linkcheck import inertia as inr
 
 #: Written values are within this of the intended ones, relative to their group's scale.
 RTOL = 1e-9
+#: A file's own text within this of the intended value (relative to its group's scale) is kept:
+#: 9-digit texts are off by up to 3e-9 of the largest moment, far below what an estimate can tell.
+KEEP_RTOL = 1e-6
 #: Written angles are within this many radians of the intended ones.
 ANGLE_ATOL = 1e-10
 
@@ -102,6 +106,43 @@ def quat_xyzw(rotation: np.ndarray) -> np.ndarray:
         q = [(r[0, 2] + r[2, 0]) / s, (r[1, 2] + r[2, 1]) / s, s / 4, (r[1, 0] - r[0, 1]) / s]
     q = np.array(q)
     return -q if q[3] < 0 else q
+
+
+_PLAIN_NUMBER = re.compile(r"\s*[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?\s*\Z")
+
+
+def prefer_existing(edit: InertialEdit, texts: dict[str, str], old: dict[str, str | None],
+                    rtol: float = inr.TENSOR_RTOL) -> dict[str, str]:
+    """``texts`` with the file's own text wherever it already says the intended number.
+
+    ``old`` maps ``mass``, ``xyz`` and ``ixx``..``izz`` to the file's current texts. A text
+    within KEEP_RTOL of the intended value (relative to its group's scale) is kept, so a fix
+    does not rewrite ``0.000141666667`` as ``0.0001416666667``; not when the kept values would
+    fail a test the new ones pass.
+    """
+    tensor = np.asarray(edit.inertia_frame, dtype=float)
+    tensor = (tensor + tensor.T) / 2
+    t_scale = float(np.max(np.abs(np.diag(tensor)))) or float(np.max(np.abs(tensor))) or 1.0
+    com = np.asarray(edit.com, dtype=float)
+    c_scale = float(np.max(np.abs(com))) or 1.0
+
+    def says(raw: str | None, want: float, atol: float) -> bool:
+        return raw is not None and bool(_PLAIN_NUMBER.match(raw)) and abs(float(raw) - want) <= atol
+
+    out = dict(texts)
+    if says(old.get("mass"), edit.mass, KEEP_RTOL * abs(edit.mass)):
+        out["mass"] = str(old["mass"]).strip()
+    parts = (old.get("xyz") or "").split()
+    if len(parts) == 3 and all(says(p, c, KEEP_RTOL * c_scale) for p, c in zip(parts, com)):
+        out["xyz"] = str(old["xyz"])
+    for key, (i, j) in _INDEX.items():
+        if says(old.get(key), tensor[i, j], KEEP_RTOL * t_scale):
+            out[key] = str(old[key]).strip()
+    if out == texts:
+        return texts
+    new = _tests(tensor_of({k: float(texts[k]) for k in INERTIA_KEYS}), rtol)
+    kept = _tests(tensor_of({k: float(out[k]) for k in INERTIA_KEYS}), rtol)
+    return out if all(k or not n for k, n in zip(kept, new)) else texts
 
 
 def tensor_of(values: dict[str, float]) -> np.ndarray:

@@ -14,7 +14,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from linkcheck.formats.frames import PoseError, parse_pose
-from linkcheck.formats.numbers import ANGLE_ATOL, INERTIA_KEYS, InertialEdit, format_edit
+from linkcheck.formats.numbers import ANGLE_ATOL, INERTIA_KEYS, InertialEdit, format_edit, prefer_existing
 from linkcheck.formats.xml import XmlError, XmlFile, parse_xml
 
 if TYPE_CHECKING:
@@ -201,6 +201,9 @@ def _edit_link(sp: _Splicer, link_el: Any, edit: InertialEdit) -> None:
     if (iel.get("auto") or "").strip().lower() in ("true", "1"):
         raise ValueError("the link computes its inertia automatically (auto=\"true\"): stated values are not written")
     pel, mel, inel = _child(iel, "pose"), _child(iel, "mass"), _child(iel, "inertia")
+    old = {"mass": mel.text if mel is not None else None}
+    old.update({k: (_child(inel, k).text if inel is not None and _child(inel, k) is not None else None) for k in INERTIA_KEYS})
+    texts = prefer_existing(edit, texts, old)
     kids = _elements(iel)
     if not kids:
         body = _block_lines(texts, None if identity else f"{texts['xyz']} {texts['rpy']}")[1:-1]

@@ -19,7 +19,7 @@ import numpy as np
 from lxml import etree
 
 from linkcheck import inertia as inr
-from linkcheck.formats.numbers import INERTIA_KEYS, InertialEdit, format_edit, tensor_of
+from linkcheck.formats.numbers import INERTIA_KEYS, InertialEdit, format_edit, prefer_existing, tensor_of
 from linkcheck.formats.xml import XmlError, XmlFile, parse_xml, suppressions
 from linkcheck.model import Body, Document, Finding, Joint, Link, Pose, Shape, StatedInertial
 
@@ -436,13 +436,22 @@ def rewrite_urdf(doc: Document, changes: dict[str, InertialEdit]) -> bytes:
         if inertial is None:
             _insert_block(splice, handle.element, texts)
         else:
-            _rewrite_block(splice, inertial, texts, edit)
+            _rewrite_block(splice, inertial, prefer_existing(edit, texts, _old_texts(inertial)), edit)
     out = splice.apply()
     try:
         parse_xml(doc.path, out)
     except XmlError as exc:  # pragma: no cover - a bug guard: never write a broken file
         raise LinkcheckError(f"{doc.path}: internal error, the rewritten file does not parse ({exc.message})") from None
     return out
+
+
+def _old_texts(inertial: Any) -> dict[str, str | None]:
+    """The block's current mass, COM and tensor texts (None where absent)."""
+    origin, mass, inertia = (_child(inertial, t) for t in ("origin", "mass", "inertia"))
+    old: dict[str, str | None] = {"mass": mass.get("value") if mass is not None else None,
+                                  "xyz": origin.get("xyz") if origin is not None else None}
+    old.update({k: inertia.get(k) if inertia is not None else None for k in INERTIA_KEYS})
+    return old
 
 
 def _rewrite_block(splice: _Splice, inertial: Any, texts: dict[str, str], edit: InertialEdit) -> None:
