@@ -164,3 +164,20 @@ def test_fix_keeps_tensor_texts_that_already_say_the_right_number(tmp_path):
         assert len(changed) == 2, changed
         again = run("--fix", name, cwd=tmp_path)
         assert again.returncode == 0, again.stdout
+
+
+def test_fix_does_not_add_a_zero_rpy_the_file_left_out(tmp_path):
+    # URDF spec (from memory): <origin> xyz and rpy default to zero when absent. Replacing an identity
+    # filler (box 0.4 x 0.1 x 0.2, 2 kg: handbook 0.00833, 0.0333, 0.0283) must leave <origin xyz='0 0 0'/> alone.
+    text = ("<robot name='r'>\n\t<link name='a'>\n\t\t<collision><geometry><box size='0.4 0.1 0.2'/></geometry></collision>\n"
+            "\t\t<inertial>\n\t\t\t<origin xyz='0 0 0'/>\n\t\t\t<mass value='2'/>\n"
+            "\t\t\t<inertia ixx='1' ixy='0' ixz='0' iyy='1' iyz='0' izz='1'/>\n\t\t</inertial>\n\t</link>\n</robot>\n")
+    path = tmp_path / "a.urdf"
+    path.write_text(text)
+    assert run("--fix", "a.urdf", cwd=tmp_path).returncode == 1
+    new = path.read_text().splitlines()
+    assert new[4] == "\t\t\t<origin xyz='0 0 0'/>", new[4]
+    ixx, iyy, izz = box_moments(2.0, 0.4, 0.1, 0.2)
+    values = dict(part.split("=") for part in new[6].strip()[len("<inertia "):-2].split())
+    assert abs(float(values["ixx"].strip("'")) - ixx) < 1e-9 * izz
+    assert abs(float(values["iyy"].strip("'")) - iyy) < 1e-9 * izz

@@ -467,6 +467,7 @@ def _rewrite_block(splice: _Splice, inertial: Any, texts: dict[str, str], edit: 
     if origin is not None:
         use_quat = origin.get("quat_xyzw") is not None and origin.get("rpy") is None
         values = {"xyz": texts["xyz"], ("quat_xyzw" if use_quat else "rpy"): texts["quat_xyzw" if use_quat else "rpy"]}
+        values = {k: v for k, v in values.items() if origin.get(k) is not None or v != "0 0 0"}  # absent means 0 0 0
         keep = {k for k, v in values.items() if _same_vector(origin.get(k), v, com_scale if k == "xyz" else 1.0)}
         splice.set_attributes(origin, values, keep)
     elif texts["xyz"] != "0 0 0" or texts["rpy"] != "0 0 0":
