@@ -181,3 +181,21 @@ def test_fix_does_not_add_a_zero_rpy_the_file_left_out(tmp_path):
     values = dict(part.split("=") for part in new[6].strip()[len("<inertia "):-2].split())
     assert abs(float(values["ixx"].strip("'")) - ixx) < 1e-9 * izz
     assert abs(float(values["iyy"].strip("'")) - iyy) < 1e-9 * izz
+
+
+def test_sdf_children_added_to_a_one_line_inertia_stay_on_that_line(tmp_path):
+    # sphere r 0.05 m, 0.4 kg: handbook 2/5 m r² = 0.0004 kg m²; the missing ixy, iyy, iyz (SDFormat
+    # defaults 0, 1, 0 from its inertial.sdf description, from memory) are written inline, one line as before.
+    line = "      <inertial><mass>0.4</mass><inertia><ixx>0.0004</ixx><ixz>0</ixz><izz>0.0004</izz></inertia></inertial>"
+    text = ('<?xml version="1.0"?>\n<sdf version="1.9">\n  <model name="m">\n    <link name="head">\n' + line + "\n"
+            '      <collision name="c"><geometry><sphere><radius>0.05</radius></sphere></geometry></collision>\n'
+            "    </link>\n  </model>\n</sdf>\n")
+    path = tmp_path / "m.sdf"
+    path.write_text(text)
+    p = run("--fix", "m.sdf", cwd=tmp_path)
+    assert p.returncode == 1, p.stdout + p.stderr
+    new = path.read_text().splitlines()
+    assert len(new) == len(text.splitlines())
+    assert new[4] == ("      <inertial><mass>0.4</mass><inertia><ixx>0.0004</ixx><ixy>0</ixy><ixz>0</ixz>"
+                      "<iyy>0.0004</iyy><iyz>0</iyz><izz>0.0004</izz></inertia></inertial>"), new[4]
+    assert run("--fix", "m.sdf", cwd=tmp_path).returncode == 0

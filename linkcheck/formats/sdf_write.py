@@ -88,6 +88,13 @@ class _Splicer:
     def insert_children(self, parent: Any, lines: list[str], before: Any | None = None, after: Any | None = None) -> None:
         """Insert elements (already-formatted lines relative to the child indent) into ``parent``."""
         indent = self.child_indent(parent)
+        p_start, p_end = self.xml.span(parent)
+        if (before is not None or after is not None) and b"\n" not in self.data[p_start:p_end]:
+            # a one-line element (<inertia><ixx>..</ixx><izz>..</izz></inertia>) stays on one line
+            text = "".join(line.strip() for line in lines)
+            at = self.xml.span(before)[0] if before is not None else self.xml.span(after)[1]
+            self.splices.append((at, at, self.enc(text)))
+            return
         if before is not None:
             text = "".join(line + self.nl + indent for line in self._indented(lines))
             self.splices.append((self.xml.span(before)[0], self.xml.span(before)[0], self.enc(text)))
