@@ -199,3 +199,32 @@ def test_sdf_children_added_to_a_one_line_inertia_stay_on_that_line(tmp_path):
     assert new[4] == ("      <inertial><mass>0.4</mass><inertia><ixx>0.0004</ixx><ixy>0</ixy><ixz>0</ixz>"
                       "<iyy>0.0004</iyy><iyz>0</iyz><izz>0.0004</izz></inertia></inertial>"), new[4]
     assert run("--fix", "m.sdf", cwd=tmp_path).returncode == 0
+
+
+def test_sdf_merge_include_names_its_links_in_the_parent_model(tmp_path):
+    # SDFormat 1.9 <include merge="true"> (sdformat include description, from memory): the included model's
+    # links, joints and frames become the parent model's own, so a joint of the parent names them bare.
+    wheel = tmp_path / "parts" / "wheel"
+    wheel.mkdir(parents=True)
+    (wheel / "model.config").write_text('<model><name>wheel</name><sdf version="1.9">wheel.sdf</sdf></model>\n')
+    m, r, h = 1.2, 0.1, 0.05  # handbook: solid cylinder m(3r²+h²)/12, mr²/2
+    (wheel / "wheel.sdf").write_text(
+        '<sdf version="1.9"><model name="wheel"><link name="rim"><inertial><mass>1.2</mass><inertia>'
+        f'<ixx>{m * (3 * r * r + h * h) / 12!r}</ixx><ixy>0</ixy><ixz>0</ixz><iyy>{m * (3 * r * r + h * h) / 12!r}</iyy>'
+        f'<iyz>0</iyz><izz>{m * r * r / 2!r}</izz></inertia></inertial><collision name="c"><geometry><cylinder>'
+        '<radius>0.1</radius><length>0.05</length></cylinder></geometry></collision></link></model></sdf>\n')
+    dx, dy, dz = box_moments(1.0, 1, 0.5, 0.01)
+    cart = ('<?xml version="1.0"?>\n<sdf version="1.9">\n  <model name="cart">\n'
+            f'    <link name="deck"><inertial><mass>1</mass><inertia><ixx>{dx!r}</ixx><ixy>0</ixy><ixz>0</ixz>'
+            f'<iyy>{dy!r}</iyy><iyz>0</iyz><izz>{dz!r}</izz></inertia></inertial>'
+            '<collision name="c"><geometry><box><size>1 0.5 0.01</size></box></geometry></collision></link>\n'
+            '    <include MERGE><uri>parts/wheel</uri><name>wl</name><pose>0.4 0.3 0 0 0 0</pose></include>\n'
+            '    <joint name="jl" type="revolute"><parent>deck</parent><child>rim</child></joint>\n'
+            '  </model>\n</sdf>\n')
+    (tmp_path / "cart.sdf").write_text(cart.replace("MERGE", 'merge="true"'))
+    p = run("cart.sdf", cwd=tmp_path)
+    assert p.returncode == 0 and "value-malformed" not in p.stdout, p.stdout
+    # near miss: without merge the wheel is a nested model 'wl', and a bare 'rim' names nothing
+    (tmp_path / "cart.sdf").write_text(cart.replace(" MERGE", ""))
+    p = run("cart.sdf", cwd=tmp_path)
+    assert p.returncode == 1 and "value-malformed  joint 'jl': frame 'rim' not found" in p.stdout, p.stdout

@@ -94,6 +94,8 @@ class _Scope:
     placement: str | None = None  # @placement_frame: the inner frame the model pose places
     links: list[str] = field(default_factory=list)
     models: list[str] = field(default_factory=list)
+    #: nested models included with merge="true" (SDFormat 1.9+): their frames are named as this scope's own
+    merged: list[str] = field(default_factory=list)
 
 
 class FrameGraph:
@@ -122,10 +124,16 @@ class FrameGraph:
         canonical_link: str | None = None,
         placement_frame: str | None = None,
         line: int | None = None,
+        merged: bool = False,
     ) -> None:
-        """A model whose scope is ``scope`` (its last entry is its name), posed in its parent scope."""
+        """A model whose scope is ``scope`` (its last entry is its name), posed in its parent scope.
+
+        ``merged``: an <include merge="true">; the parent scope also finds its frames by their bare names.
+        """
         parent = scope[:-1]
         self._scopes.setdefault(parent, _Scope()).models.append(scope[-1])
+        if merged:
+            self._scopes[parent].merged.append(scope[-1])
         self._scopes[scope] = _Scope(canonical_link or None, placement_frame or None)
         self._frames[(scope, MODEL_FRAME)] = _Frame("model", pose, relative_to or None, line=line)
 
@@ -171,6 +179,11 @@ class FrameGraph:
             return (where + (last,), MODEL_FRAME)
         if (where, last) in self._frames and last != "world":
             return (where, last)
+        for inner in self._scopes.get(where, _Scope()).merged:
+            try:
+                return self.lookup(where + (inner,), last)
+            except FrameError:
+                pass
         raise FrameError(f"frame '{ref}' not found in {self.describe_scope(scope)}")
 
     @staticmethod

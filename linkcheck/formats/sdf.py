@@ -171,15 +171,16 @@ class _Reader:
     # ---- models
 
     def model(
-        self, el: Any, scope: tuple[str, ...], pose_override: tuple[Pose, str | None] | None = None, static: bool = False
+        self, el: Any, scope: tuple[str, ...], pose_override: tuple[Pose, str | None] | None = None, static: bool = False,
+        merged: bool = False,
     ) -> None:
-        """A <model> (or the model of an included file) whose scope is ``scope``."""
+        """A <model> (or the model of an included file) whose scope is ``scope``; see FrameGraph.add_model."""
         graph = self.ctx.graph
         static = static or _text(_child(el, "static")).lower() in ("true", "1")
         pose, rel, _ = self.pose_of(el, f"model '{'::'.join(scope)}' pose")
         if pose_override is not None:
             pose, rel = pose_override
-        graph.add_model(scope, pose, rel, el.get("canonical_link"), el.get("placement_frame"), self.xml.line(el))
+        graph.add_model(scope, pose, rel, el.get("canonical_link"), el.get("placement_frame"), self.xml.line(el), merged)
         for child in el:
             kind = _local(child)
             if kind == "link":
@@ -488,7 +489,8 @@ class _Reader:
         chain = self.ctx.seen
         self.ctx.depth += 1
         self.ctx.seen = chain + (target,)
-        reader.model(model_el, scope + (name,), override, static=_text(_child(el, "static")).lower() in ("true", "1"))
+        reader.model(model_el, scope + (name,), override, static=_text(_child(el, "static")).lower() in ("true", "1"),
+                     merged=(el.get("merge") or "").strip().lower() in ("true", "1"))
         self.ctx.depth -= 1
         self.ctx.seen = chain
         self.doc.included.append(sub_doc)
