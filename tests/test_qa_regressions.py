@@ -228,3 +228,24 @@ def test_sdf_merge_include_names_its_links_in_the_parent_model(tmp_path):
     (tmp_path / "cart.sdf").write_text(cart.replace(" MERGE", ""))
     p = run("cart.sdf", cwd=tmp_path)
     assert p.returncode == 1 and "value-malformed  joint 'jl': frame 'rim' not found" in p.stdout, p.stdout
+
+
+def test_a_found_package_without_the_file_is_not_called_missing(tmp_path):
+    # ROS resolves package://NAME/rest to <package folder>/rest (REP 0127 / resource_retriever, from memory);
+    # Linux file systems are case-sensitive, so .stl does not open .STL. The message must say the package was
+    # found and which file is missing, not "package not found", and name the file that differs in case.
+    from linkcheck.geometry.resolve import resolve_uri
+
+    pkg = tmp_path / "src" / "pollinator"
+    (pkg / "meshes").mkdir(parents=True)
+    (pkg / "package.xml").write_text("<package format='3'><name>pollinator</name></package>\n")
+    (pkg / "meshes" / "bracket.STL").write_bytes(b"\0" * 84)
+    (pkg / "urdf").mkdir()
+    res = resolve_uri("package://pollinator/meshes/bracket.stl", pkg / "urdf")
+    assert res.path is None
+    assert "package 'pollinator' has no file 'meshes/bracket.stl'" in res.reason and "not found" not in res.reason
+    assert "'bracket.STL'" in res.reason
+    res = resolve_uri("../meshes/bracket.stl", pkg / "urdf")
+    assert res.path is None and "'bracket.STL'" in res.reason
+    res = resolve_uri("package://ghost/meshes/bracket.STL", pkg / "urdf")  # near miss: a package that is absent
+    assert res.path is None and "package 'ghost'" in res.reason and "not found" in res.reason

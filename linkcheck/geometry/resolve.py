@@ -92,7 +92,16 @@ def _resolve_plain(uri: str, path_text: str, base_dir: Path) -> Resolution:
         tried.append(str(candidate))
         if candidate.is_file():
             return Resolution(candidate, tuple(tried))
-    return Resolution(None, tuple(tried), None, f"no file at {tried[0]}")
+    return Resolution(None, tuple(tried), None, f"no file at {tried[0]}{_case_hint(Path(tried[0]))}")
+
+
+def _case_hint(missing: Path) -> str:
+    """Names a file that differs from ``missing`` only in letter case (CAD exports write .STL; Linux minds)."""
+    try:
+        near = [p.name for p in missing.parent.iterdir() if p.name.lower() == missing.name.lower() and p.name != missing.name]
+    except OSError:
+        return ""
+    return f" (there is '{near[0]}': file names are case-sensitive)" if near else ""
 
 
 def _resolve_package(uri: str, name: str, sub: str, base_dir: Path, search: SearchPaths) -> Resolution:
@@ -101,6 +110,7 @@ def _resolve_package(uri: str, name: str, sub: str, base_dir: Path, search: Sear
     tried: list[str] = []
 
     seen: set[Path] = set()
+    misses: list[Path] = []
 
     def attempt(folder: Path, how: str) -> Path | None:
         candidate = folder / unquote(sub) if sub else folder
@@ -108,7 +118,10 @@ def _resolve_package(uri: str, name: str, sub: str, base_dir: Path, search: Sear
             return None
         seen.add(candidate)
         tried.append(f"{candidate} ({how})")
-        return candidate if candidate.is_file() else None
+        if candidate.is_file():
+            return candidate
+        misses.append(candidate)
+        return None
 
     root = _project_root(base_dir)
     for folder in _ancestors_until(base_dir, root):
@@ -141,6 +154,8 @@ def _resolve_package(uri: str, name: str, sub: str, base_dir: Path, search: Sear
         f"package '{name}' of '{uri}' not found; point linkcheck at it with "
         f"--package-path {name}=DIR (or ROS_PACKAGE_PATH)"
     )
+    if misses:  # the package is there; the file is not
+        reason = f"package '{name}' has no file '{unquote(sub)}'{_case_hint(misses[0])}"
     if not tried:
         tried.append(f"no package.xml named '{name}' under {root} or beside it")
     return Resolution(None, tuple(tried), None, reason)
