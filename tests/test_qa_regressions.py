@@ -249,3 +249,32 @@ def test_a_found_package_without_the_file_is_not_called_missing(tmp_path):
     assert res.path is None and "'bracket.STL'" in res.reason
     res = resolve_uri("package://ghost/meshes/bracket.STL", pkg / "urdf")  # near miss: a package that is absent
     assert res.path is None and "package 'ghost'" in res.reason and "not found" in res.reason
+
+
+def test_numbers_too_large_to_compute_with_are_malformed_not_an_internal_error(tmp_path):
+    # IEEE 754 double: the largest finite value is about 1.8e308, so 1e308 moments overflow as soon as
+    # they are added or squared (a trace, a Frobenius norm); a 1e200 m box overflows its own inertia.
+    urdf = ('<robot name="x">\n'
+            '  <link name="a"><collision><geometry><box size="0.1 0.1 0.1"/></geometry></collision><inertial>'
+            '<mass value="1e308"/><inertia ixx="1e308" ixy="0" ixz="0" iyy="1e308" iyz="0" izz="1e308"/></inertial></link>\n'
+            '  <link name="d"><collision><geometry><box size="1e200 1e200 1e200"/></geometry></collision><inertial>'
+            '<mass value="1"/><inertia ixx="1e-3" ixy="0" ixz="0" iyy="1e-3" iyz="0" izz="1e-3"/></inertial></link>\n'
+            '</robot>\n')
+    sdf = ('<sdf version="1.9"><model name="m"><link name="a"><pose>1e300 0 0 0 0 0</pose><inertial><mass>1e308</mass>'
+           '<inertia><ixx>1e308</ixx><ixy>0</ixy><ixz>0</ixz><iyy>1e308</iyy><iyz>0</iyz><izz>1e308</izz></inertia>'
+           '</inertial><collision name="c"><geometry><box><size>0.1 0.1 0.1</size></box></geometry></collision>'
+           '</link></model></sdf>\n')
+    (tmp_path / "x.urdf").write_text(urdf)
+    (tmp_path / "x.sdf").write_text(sdf)
+    for name in ("x.urdf", "x.sdf"):
+        p = run(name, cwd=tmp_path)
+        assert p.returncode == 1 and p.stderr == "", (p.stdout, p.stderr)
+        assert "value-malformed" in p.stdout and "no larger than 1e30" in p.stdout, p.stdout
+    # near miss: a large but computable robot (a 1e3 m box of 1e6 kg) is judged normally
+    big = urdf.split("\n")[0] + "\n" + (
+        f'  <link name="hall"><collision><geometry><box size="1000 1000 1000"/></geometry></collision><inertial>'
+        f'<mass value="1e6"/><inertia ixx="{1e6 * 2e6 / 12!r}" ixy="0" ixz="0" iyy="{1e6 * 2e6 / 12!r}" iyz="0" '
+        f'izz="{1e6 * 2e6 / 12!r}"/></inertial></link>\n</robot>\n')  # handbook cube: m(a²+a²)/12
+    (tmp_path / "big.urdf").write_text(big)
+    p = run("big.urdf", cwd=tmp_path)
+    assert "value-malformed" not in p.stdout and p.stderr == "", p.stdout + p.stderr

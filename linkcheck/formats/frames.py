@@ -15,6 +15,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from linkcheck.formats.numbers import MAX_MAGNITUDE, TOO_LARGE
 from linkcheck.inertia import quat_xyzw_to_matrix, rpy_to_matrix
 from linkcheck.model import Pose
 
@@ -44,6 +45,8 @@ def _numbers(text: str) -> list[float]:
             raise PoseError(f"pose value '{word}' is not a number{hint}") from None
         if not math.isfinite(value):
             raise PoseError(f"pose value '{word}' is not finite")
+        if abs(value) > MAX_MAGNITUDE:
+            raise PoseError(f"pose value '{word}': {TOO_LARGE}")
         out.append(value)
     return out
 

@@ -25,6 +25,11 @@ KEEP_RTOL = 1e-6
 #: Written angles are within this many radians of the intended ones.
 ANGLE_ATOL = 1e-10
 
+#: Largest magnitude a reader accepts: squares and tensor norms of larger numbers overflow float64,
+#: and no robot description means them.
+MAX_MAGNITUDE = 1e30
+TOO_LARGE = "expected a number no larger than 1e30 in size"
+
 INERTIA_KEYS = ("ixx", "ixy", "ixz", "iyy", "iyz", "izz")
 _INDEX = {"ixx": (0, 0), "ixy": (0, 1), "ixz": (0, 2), "iyy": (1, 1), "iyz": (1, 2), "izz": (2, 2)}
 

@@ -17,6 +17,7 @@ from typing import Any
 import numpy as np
 
 from linkcheck.formats.frames import MODEL_FRAME, WORLD, FrameError, FrameGraph, FrameId, PoseError, parse_pose
+from linkcheck.formats.numbers import MAX_MAGNITUDE, TOO_LARGE
 from linkcheck.formats.sdf_include import find_include, parse_version
 from linkcheck.formats.xml import XmlError, XmlFile, parse_xml, suppressions
 from linkcheck.inertia import MassProperties
@@ -138,6 +139,9 @@ class _Reader:
         if not math.isfinite(value):
             self.malformed(f"{where} is '{word}': expected a finite number", el)
             return None
+        if abs(value) > MAX_MAGNITUDE:
+            self.malformed(f"{where} is '{word}': {TOO_LARGE}", el)
+            return None
         if positive and value <= 0:
             self.malformed(f"{where} is '{word}': expected a positive number", el)
             return None
@@ -157,6 +161,9 @@ class _Reader:
                 return None
             if not math.isfinite(v):
                 self.malformed(f"{where} is '{_text(el)}': expected finite numbers", el)
+                return None
+            if abs(v) > MAX_MAGNITUDE:
+                self.malformed(f"{where} is '{_text(el)}': {TOO_LARGE}", el)
                 return None
             out.append(v)
         return tuple(out)

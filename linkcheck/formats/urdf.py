@@ -19,7 +19,7 @@ import numpy as np
 from lxml import etree
 
 from linkcheck import inertia as inr
-from linkcheck.formats.numbers import INERTIA_KEYS, InertialEdit, format_edit, prefer_existing, tensor_of
+from linkcheck.formats.numbers import INERTIA_KEYS, MAX_MAGNITUDE, TOO_LARGE, InertialEdit, format_edit, prefer_existing, tensor_of
 from linkcheck.formats.xml import XmlError, XmlFile, parse_xml, suppressions
 from linkcheck.model import Body, Document, Finding, Joint, Link, Pose, Shape, StatedInertial
 
@@ -103,6 +103,9 @@ class _Reader:
             values.append(float(part))
         if not all(math.isfinite(v) for v in values):
             self.malformed(el, f"{what} is '{raw}' — expected a finite number")
+            raise _Bad
+        if any(abs(v) > MAX_MAGNITUDE for v in values):
+            self.malformed(el, f"{what} is '{raw}' — {TOO_LARGE}")
             raise _Bad
         return values
 
