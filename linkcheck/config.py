@@ -378,6 +378,14 @@ def _check_order(settings: Settings, source: Path | None) -> None:
         where = f"{_display(source)}: " if source is not None else ""
         raise ConfigError(f"{where}density-range: min ({settings.density_min:g}) must be below max "
                           f"({settings.density_max:g})")
+    rho = settings.default_density
+    if rho is not None and not settings.density_min <= rho <= settings.density_max:
+        # a fill with it would write blocks that density-implausible then reports
+        where = f"{_display(source)}: " if source is not None else ""
+        grams = rho < settings.density_min and rho * 1000 <= settings.density_max
+        hint = f" (in kg/m³: {rho:g} g/cm³ is {rho * 1000:g} kg/m³)" if grams else ""
+        raise ConfigError(f"{where}default-density / --density {rho:g} kg/m³ is outside density-range "
+                          f"{settings.density_min:g}–{settings.density_max:g} kg/m³{hint}")
 
 
 def link_settings(settings: Settings, link_name: str) -> LinkSettings:

@@ -278,3 +278,20 @@ def test_numbers_too_large_to_compute_with_are_malformed_not_an_internal_error(t
     (tmp_path / "big.urdf").write_text(big)
     p = run("big.urdf", cwd=tmp_path)
     assert "value-malformed" not in p.stdout and p.stderr == "", p.stdout + p.stderr
+
+
+def test_a_fill_density_outside_the_plausible_range_is_a_usage_error(tmp_path):
+    # 1.2 is a plastic's density in g/cm³ (1200 kg/m³); as kg/m³ it is outside the default plausible range
+    # [50, 25000] (README), so a fill would write a block that density-implausible reports at once.
+    text = ('<robot name="g"><link name="base"/><joint name="j" type="revolute"><parent link="base"/>'
+            '<child link="sensor"/><axis xyz="0 0 1"/><limit lower="0" upper="1" effort="1" velocity="1"/></joint>'
+            '<link name="sensor"><visual><geometry><box size="0.01 0.01 0.01"/></geometry></visual></link></robot>\n')
+    path = tmp_path / "g.urdf"
+    path.write_text(text)
+    p = run("--fill-missing", "--density", "1.2", "g.urdf", cwd=tmp_path)
+    assert p.returncode == 2 and path.read_text() == text, p.stdout + p.stderr
+    assert "1200 kg/m³" in p.stderr and len(p.stderr.strip().splitlines()) == 1, p.stderr
+    # near miss: 1200 kg/m³ fills the 1 cm³ box with 1.2 g (handbook: m(a²+a²)/12 = 2e-8 kg m²)
+    p = run("--fill-missing", "--density", "1200", "g.urdf", cwd=tmp_path)
+    assert p.returncode == 1 and 'mass value="0.0012"' in path.read_text(), p.stdout + p.stderr
+    assert 'ixx="2e-8"' in path.read_text()
