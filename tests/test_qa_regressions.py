@@ -295,3 +295,47 @@ def test_a_fill_density_outside_the_plausible_range_is_a_usage_error(tmp_path):
     p = run("--fill-missing", "--density", "1200", "g.urdf", cwd=tmp_path)
     assert p.returncode == 1 and 'mass value="0.0012"' in path.read_text(), p.stdout + p.stderr
     assert 'ixx="2e-8"' in path.read_text()
+
+
+def _ascii_cube_stl(a: float) -> str:
+    """A closed cube of edge ``a`` as ASCII STL, 12 outward triangles, keywords in upper case."""
+    import itertools
+
+    h = a / 2
+    out = ["SOLID CUBE"]
+    for axis, sign in itertools.product(range(3), (-1, 1)):
+        u, v = [i for i in range(3) if i != axis]
+        corners = []
+        for du, dv in ((-1, -1), (1, -1), (1, 1), (-1, 1)):
+            p = [0.0, 0.0, 0.0]
+            p[axis], p[u], p[v] = sign * h, du * h, dv * h
+            corners.append(p)
+        if (sign > 0) != ((axis == 1) is False):  # keep every face wound outward (right-hand rule)
+            corners.reverse()
+        for tri in ((0, 1, 2), (0, 2, 3)):
+            out += ["  FACET NORMAL 0 0 0", "    OUTER LOOP"]
+            out += [f"      VERTEX {corners[k][0]!r} {corners[k][1]!r} {corners[k][2]!r}" for k in tri]
+            out += ["    ENDLOOP", "  ENDFACET"]
+    out.append("ENDSOLID CUBE")
+    return "\n".join(out) + "\n"
+
+
+def test_ascii_stl_with_upper_case_keywords_is_read(tmp_path):
+    # STL keywords are case-insensitive in practice: trimesh reads an upper-case file (checked here too);
+    # the cube's volume is a³ (8e-6 m³ for a = 0.02 m) and its moments m a²/6 (handbook).
+    import trimesh
+
+    text = _ascii_cube_stl(0.02)
+    (tmp_path / "cube.stl").write_text(text)
+    ref = trimesh.load(tmp_path / "cube.stl", force="mesh")
+    assert ref.is_watertight and abs(ref.volume - 8e-6) < 1e-15
+    m = 0.05
+    i = m * 0.02 ** 2 / 6
+    urdf = (f'<robot name="c"><link name="cube"><collision><geometry><mesh filename="cube.stl"/></geometry></collision>'
+            f'<inertial><mass value="{m}"/><inertia ixx="{i!r}" ixy="0" ixz="0" iyy="{i!r}" iyz="0" izz="{i!r}"/>'
+            '</inertial></link></robot>\n')
+    (tmp_path / "c.urdf").write_text(urdf)
+    p = run("--format", "json", "c.urdf", cwd=tmp_path)
+    entry = json.loads(p.stdout)["files"][0]
+    assert entry["findings"] == [], entry["findings"]
+    assert abs(entry["links"][0]["computed"]["volume"] - 8e-6) < 1e-12

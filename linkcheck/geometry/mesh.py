@@ -40,7 +40,7 @@ CLOSURE_TOL = 1e-7
 #: Unit factors tried by the units hints: millimetres, centimetres, inches, and the reverse.
 UNIT_FACTORS = (1e-3, 1e-2, 0.0254, 1e3)
 _STL_RECORD = np.dtype([("n", "<f4", (3,)), ("v", "<f4", (3, 3)), ("attr", "<u2")])
-_VERTEX_RE = re.compile(rb"vertex\s+(\S+)\s+(\S+)\s+(\S+)")
+_VERTEX_RE = re.compile(rb"vertex\s+(\S+)\s+(\S+)\s+(\S+)", re.I)  # some exporters write upper case
 _UP_RE = re.compile(rb"<up_axis>\s*([XYZ]_UP)\s*</up_axis>")
 _UNIT_RE = re.compile(rb"<unit\b[^>]*?\bmeter\s*=\s*[\"']([^\"']+)[\"']")
 
@@ -236,7 +236,7 @@ def _read_stl(data: bytes) -> np.ndarray:
     if count >= 0 and 84 + 50 * count == size:
         return np.frombuffer(data, _STL_RECORD, count, 84)["v"]
     head = data[:512].lstrip()
-    if head[:5].lower() == b"solid" and (b"facet" in data[:4096] or b"endsolid" in data[-512:]):
+    if head[:5].lower() == b"solid" and (b"facet" in data[:4096].lower() or b"endsolid" in data[-512:].lower()):
         found = _VERTEX_RE.findall(data)
         if len(found) % 3:
             raise MeshError(f"ASCII STL has {len(found)} vertices, not a multiple of 3")
