@@ -119,7 +119,7 @@ def plan_fix(ctx: LinkContext, findings: list[Finding], options: FixOptions) -> 
     if len(ctx.group) > 1:
         return Refusal(ctx.name, active[0], "judged as one rigid body with " + ", ".join(ctx.group)
                        + "; a fix rewrites single links only")
-    if ctx.inertial is not None and ctx.inertial.auto:
+    if ctx.link.inertial is not None and ctx.link.inertial.auto:  # ctx.inertial is None for these (runner)
         return Refusal(ctx.name, active[0], 'the block is auto="true": the simulator computes it from the '
                        "collisions, so written values would be ignored")
 

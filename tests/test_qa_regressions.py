@@ -339,3 +339,24 @@ def test_ascii_stl_with_upper_case_keywords_is_read(tmp_path):
     entry = json.loads(p.stdout)["files"][0]
     assert entry["findings"] == [], entry["findings"]
     assert abs(entry["links"][0]["computed"]["volume"] - 8e-6) < 1e-12
+
+
+def test_fill_missing_beside_an_auto_inertial_with_a_stated_pose_is_no_internal_error(tmp_path):
+    # SDFormat 1.11 <inertial auto="true"> (spec, from memory): the simulator computes mass properties from the
+    # collisions and overwrites a stated <pose>. No fix may write into it; the other link is still filled
+    # (sphere r 0.1 at 1000 kg/m³: 4/3 π r³ ρ = 4.18879 kg, handbook 2/5 m r² = 0.0167552 kg m²).
+    text = ('<?xml version="1.0"?>\n<sdf version="1.11">\n  <model name="cart">\n    <link name="bin">\n'
+            '      <inertial auto="true"><mass>3</mass><pose>1 1 1 0 0 0</pose></inertial>\n'
+            '      <collision name="c"><geometry><box><size>0.4 0.3 0.3</size></box></geometry></collision>\n'
+            '    </link>\n    <link name="lone">\n'
+            '      <collision name="c"><geometry><sphere><radius>0.1</radius></sphere></geometry></collision>\n'
+            '    </link>\n  </model>\n</sdf>\n')
+    path = tmp_path / "cart.sdf"
+    path.write_text(text)
+    p = run("--fill-missing", "--density", "1000", "cart.sdf", cwd=tmp_path)
+    assert p.returncode == 1 and "internal error" not in p.stderr, p.stdout + p.stderr
+    new = path.read_text()
+    assert '<inertial auto="true"><mass>3</mass><pose>1 1 1 0 0 0</pose></inertial>' in new
+    import math
+    mass = float(new.split("<mass>")[2].split("</mass>")[0])
+    assert abs(mass - 4 / 3 * math.pi * 0.1 ** 3 * 1000) < 1e-6
