@@ -360,3 +360,15 @@ def test_fill_missing_beside_an_auto_inertial_with_a_stated_pose_is_no_internal_
     import math
     mass = float(new.split("<mass>")[2].split("</mass>")[0])
     assert abs(mass - 4 / 3 * math.pi * 0.1 ** 3 * 1000) < 1e-6
+
+
+def test_a_tensor_with_zero_trace_is_reported_without_numpy_warnings(tmp_path):
+    # ixx = -0.002 (a sign typo), iyy = izz = 0.001: trace 0, so one principal moment is negative
+    # (the trace is the sum of the eigenvalues): not positive-definite, and nothing to divide by.
+    (tmp_path / "t.urdf").write_text(
+        '<robot name="t"><link name="a"><collision><geometry><box size="0.1 0.1 0.1"/></geometry></collision>'
+        '<inertial><mass value="1"/><inertia ixx="-0.002" ixy="0" ixz="0" iyy="0.001" iyz="0" izz="0.001"/>'
+        '</inertial></link></robot>\n')
+    p = run("t.urdf", cwd=tmp_path)
+    assert p.returncode == 1 and p.stderr == "", p.stderr
+    assert "inertia-not-positive-definite" in p.stdout

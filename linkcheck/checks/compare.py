@@ -153,6 +153,8 @@ def inertia_mismatch(ctx: LinkContext) -> Iterator[Finding]:
     if not _comparable(ctx) or not np.any(ctx.stated.inertia):  # type: ignore[union-attr]
         return
     i, est = ctx.stated.inertia, _estimated(ctx)  # type: ignore[union-attr]
+    if not np.trace(i) > 0:
+        return  # no proportions to compare; inertia-not-positive-definite reports such a tensor
     scale = float(np.trace(i) / np.trace(est))
     shape = _rel(i / np.trace(i), est / np.trace(est))
     cfg = ctx.settings
