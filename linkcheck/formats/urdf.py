@@ -25,7 +25,7 @@ from linkcheck.model import Body, Document, Finding, Joint, Link, Pose, Shape, S
 
 XACRO_NOTE = "value is a xacro expression; expand the file to check it"
 LEFTOVER_NOTE = ("an unexpanded xacro expression in a file with no xacro definitions: URDF parsers cannot read it "
-                 "(expand the .xacro source with xacro, or write the number)")
+                 "(expand the .xacro source with xacro, or write the value out)")
 _NUMBER = re.compile(r"\s*[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?\s*\Z")
 _EXPRESSION = re.compile(r"\$[{(]")
 _SHAPE_ATTRS = {"box": ("size",), "cylinder": ("radius", "length"), "sphere": ("radius",), "capsule": ("radius", "length")}
