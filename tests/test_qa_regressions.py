@@ -1,10 +1,11 @@
 """Regressions found by running linkcheck on invented robot models it had never seen.
 
 Expected values come from outside the project: the handbook table of mass moments of inertia of
-homogeneous solids (box m(b²+c²)/12, recalled from memory), the rotation law I' = R I Rᵀ
-(an isotropic tensor is unchanged by any rotation), xacro's own behaviour (it replaces every
-``${...}``; what survives is text urdfdom cannot parse as a number) and the unified diff of
-difflib from the standard library.
+homogeneous solids (box m(b²+c²)/12, cylinder m(3r²+h²)/12 and mr²/2, sphere 2mr²/5, cube ma²/6;
+recalled from memory), the rotation law I' = R I Rᵀ (an isotropic tensor is unchanged by any
+rotation), xacro's own behaviour (it replaces every ``${...}``; what survives is text urdfdom
+cannot parse as a number), the URDF and SDFormat specifications (defaults, @merge, auto inertia;
+from memory), IEEE 754 double range, trimesh as a reference STL reader, and difflib.
 """
 
 from __future__ import annotations
