@@ -102,7 +102,8 @@ def plan_fix(ctx: LinkContext, findings: list[Finding], options: FixOptions) -> 
 
     None means nothing to do under ``options`` (no finding a fix flag covers).
     """
-    mine = [f for f in findings if f.link in (None, ctx.name)]
+    # a duplicate block is a warning about the file, not a value the fix would need
+    mine = [f for f in findings if f.link in (None, ctx.name) and not f.data.get("duplicate")]
     rules = {f.rule for f in mine}
     active = _active_rules(rules, options)
     blocking = [r for r in NEVER_FIXABLE if r in rules]

@@ -373,3 +373,25 @@ def test_a_tensor_with_zero_trace_is_reported_without_numpy_warnings(tmp_path):
     p = run("t.urdf", cwd=tmp_path)
     assert p.returncode == 1 and p.stderr == "", p.stderr
     assert "inertia-not-positive-definite" in p.stdout
+
+
+def test_default_namespace_on_robot_is_read_as_urdf():
+    # urdfdom reads with TinyXML, which ignores namespaces (from memory): such files load in ROS
+    data = (b'<robot name="r" xmlns="http://example.invalid/urdf"><link name="a"><inertial><mass value="2"/>'
+            b'<inertia ixx="1" ixy="0" ixz="0" iyy="1" iyz="0" izz="1"/></inertial></link></robot>')
+    doc = read_urdf(Path("ns.urdf"), data)
+    assert not doc.fatal and [k.name for k in doc.links] == ["a"] and doc.links[0].inertial.mass == 2.0
+
+
+def test_second_inertial_block_is_warned_and_does_not_block_a_fix():
+    # FORMATS.md §1.2: urdfdom uses the first child element of each name, silently
+    from linkcheck.fix import FixOptions, FixPlan, plan_fix
+
+    block = '<inertial><mass value="2"/><inertia ixx="1" ixy="0" ixz="0" iyy="1" iyz="0" izz="1"/></inertial>'
+    data = (f'<robot name="r"><link name="a">{block}{block}<collision><geometry><box size="0.4 0.1 0.2"/>'
+            '</geometry></collision></link></robot>').encode()
+    doc = read_urdf(Path("two.urdf"), data)
+    contexts, found = check_document(doc, Settings())
+    dup = [f for f in found if f.rule == "value-malformed"]
+    assert len(dup) == 1 and dup[0].severity == "warning" and "2 <inertial> blocks" in dup[0].message
+    assert isinstance(plan_fix(contexts[0], found, FixOptions()), FixPlan)

@@ -209,6 +209,12 @@ class _Reader:
         elif _EXPRESSION.search(self.link):
             self.expression_found(el, "link name", self.link)
         inertial_el = _child(el, "inertial")
+        extra = [k for k in _elements(el) if k.tag == "inertial"][1:]
+        if extra:
+            self.doc.findings.append(Finding(
+                "value-malformed", "warning",
+                f"link '{self.link}' has {len(extra) + 1} <inertial> blocks: URDF parsers read only the first, "
+                "silently; remove the others", self.link, self.xml.line(extra[0]), data={"duplicate": True}))
         stated, state = None, "absent"
         if inertial_el is not None:
             try:
@@ -281,6 +287,16 @@ def _child(el: Any, name: str) -> Any:
     return next((k for k in el if isinstance(k.tag, str) and k.tag == name), None)
 
 
+def _drop_default_namespace(root: Any) -> None:
+    """<robot xmlns="..."> is read as plain URDF, as the usual C++ parsers (which ignore namespaces) do."""
+    ns = etree.QName(root).namespace if isinstance(root.tag, str) else None
+    if not ns or "xacro" in ns:
+        return
+    for el in root.iter():
+        if isinstance(el.tag, str) and etree.QName(el).namespace == ns:
+            el.tag = etree.QName(el).localname
+
+
 def _fatal(doc: Document, message: str, line: int | None) -> Document:
     doc.fatal = True
     doc.writable = False
@@ -305,6 +321,7 @@ def read_urdf(path: Path, data: bytes | None = None) -> Document:
     for line, note in xml.notes:
         doc.findings.append(Finding("xml-malformed", "info", note, line=line))
     root = xml.root
+    _drop_default_namespace(root)
     if _local(root) != "robot" or etree.QName(root).namespace:
         return _fatal(doc, f"the root element is <{root.tag}>, expected <robot> (not a URDF description)", xml.line(root))
     doc.writable = xml.encoding_ok
