@@ -205,3 +205,15 @@ def test_fixed_group_does_not_hide_a_link_whose_own_mass_and_geometry_disagree()
     b = link("b")
     joint = '<joint name="j" type="fixed"><parent link="a"/><child link="b"/><origin xyz="2 0 0"/></joint>'
     assert "com-offset" in rules_of(a, b, joints=joint)
+
+
+def test_tensor_in_the_shape_axes_of_a_rotated_wheel_is_explained():
+    # wheel: cylinder r 0.1, h 0.05 turned by roll 90 deg so its axis lies along y; the author wrote the
+    # handbook tensor in the cylinder's own axes (axial moment m r^2/2 as izz) with rpy 0 0 0
+    m, r, h = 2.0, 0.1, 0.05
+    axial, trans = m * r * r / 2, m * (3 * r * r + h * h) / 12  # handbook: solid cylinder
+    wheel = link(mass=m, I=(trans, trans, axial), geometry=f'<cylinder radius="{r}" length="{h}"/>').replace(
+        '<collision><origin xyz="0 0 0"/>', '<collision><origin xyz="0 0 0" rpy="1.5707963267948966 0 0"/>')
+    found = rules_of(wheel)
+    assert "other axes" in found["inertia-mismatch"][0].message
+    assert found["inertia-mismatch"][0].severity == "warning"

@@ -168,7 +168,12 @@ def inertia_mismatch(ctx: LinkContext) -> Iterator[Finding]:
     if not (1 / cfg.mismatch_scale_info <= scale <= cfg.mismatch_scale_info):
         parts.append(f"moments are {words.num(scale, 2)}x those of a uniform body of this shape and mass")
     if shape > cfg.mismatch_shape_info:
-        parts.append(f"their proportions differ by {words.percent(shape)} (swapped axes or a different shape?)")
+        if _rel(mp.principal(i)[0], mp.principal(est)[0]) <= cfg.reference_point_tolerance:
+            parts.append("the moments are the geometry's principal moments, but about other axes: the tensor "
+                         "looks written in the shape's own axes (e.g. a cylinder's axis as z) while the geometry "
+                         "is rotated, or rotated twice; give it in link axes, or the inertial origin the same rpy")
+        else:
+            parts.append(f"their proportions differ by {words.percent(shape)} (swapped axes or a different shape?)")
     yield _finding(
         ctx,
         "inertia-mismatch",

@@ -318,3 +318,16 @@ class FrameGraph:
         if info.models:
             return (scope + (info.models[0],), MODEL_FRAME)
         raise FrameError(f"{self.describe_scope(scope)} has no link to attach its frame to")
+
+
+def degrees_hint(angles: "list[float] | tuple[float, ...] | np.ndarray") -> str | None:
+    """A reason when roll/pitch/yaw look like degrees written where radians are expected.
+
+    Angles beyond 2π (with a little slack for rounding) are almost always degrees: 90 read as
+    radians is a 116° turn the author never meant.
+    """
+    big = [float(a) for a in angles if abs(float(a)) > 2 * math.pi + 0.01]
+    if not big:
+        return None
+    shown = ", ".join(f"{a:g}" for a in big)
+    return f"angle {shown} is larger than 2π: it looks like degrees, but the angles are read as radians"

@@ -16,7 +16,7 @@ from typing import Any
 
 import numpy as np
 
-from linkcheck.formats.frames import MODEL_FRAME, WORLD, FrameError, FrameGraph, FrameId, PoseError, parse_pose
+from linkcheck.formats.frames import MODEL_FRAME, WORLD, FrameError, FrameGraph, FrameId, PoseError, degrees_hint, parse_pose
 from linkcheck.formats.numbers import MAX_MAGNITUDE, TOO_LARGE
 from linkcheck.formats.sdf_include import find_include, parse_version
 from linkcheck.formats.xml import XmlError, XmlFile, parse_xml, suppressions
@@ -88,6 +88,19 @@ def _child(el: Any, name: str) -> Any | None:
     return None
 
 
+def _floats(words: list[str]) -> list[float]:
+    """The words that parse as finite numbers (the rest are reported where they are parsed)."""
+    out = []
+    for w in words:
+        try:
+            v = float(w)
+        except ValueError:
+            continue
+        if math.isfinite(v):
+            out.append(v)
+    return out
+
+
 def _text(el: Any | None) -> str:
     return (el.text or "").strip() if el is not None else ""
 
@@ -122,6 +135,11 @@ class _Reader:
         rel = pel.get("relative_to")
         if rel is None and self.version < (1, 7):
             rel = pel.get("frame")  # 1.4-1.6 @frame, renamed to @relative_to by the 1.6->1.7 conversion
+        words = (pel.text or "").split()
+        plain = (pel.get("degrees") or "").strip().lower() not in ("true", "1") and not pel.get("rotation_format")
+        hint = degrees_hint(_floats(words[3:6])) if plain and len(words) == 6 else None
+        if hint:
+            self.finding("value-malformed", "warning", f"{where}: {hint}; add degrees=\"true\" or write radians", pel)
         try:
             return parse_pose(pel.text, pel.get("degrees"), pel.get("rotation_format")), (rel or "").strip() or None, True
         except PoseError as exc:

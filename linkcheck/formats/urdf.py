@@ -20,6 +20,7 @@ from lxml import etree
 
 from linkcheck import inertia as inr
 from linkcheck.formats.numbers import INERTIA_KEYS, MAX_MAGNITUDE, TOO_LARGE, InertialEdit, format_edit, prefer_existing, tensor_of
+from linkcheck.formats.frames import degrees_hint
 from linkcheck.formats.xml import XmlError, XmlFile, parse_xml, suppressions
 from linkcheck.model import Body, Document, Finding, Joint, Link, Pose, Shape, StatedInertial
 
@@ -124,6 +125,10 @@ class _Reader:
                 raise _Bad
             return Pose(inr.quat_xyzw_to_matrix(q), xyz)
         rpy = self.numbers(origin, "rpy", f"{what} origin rpy", 3, "0 0 0")
+        hint = degrees_hint(rpy)
+        if hint:
+            self.doc.findings.append(Finding("value-malformed", "warning", f"{self._who()}{what} origin rpy: {hint} "
+                                             "(URDF rpy is in radians)", link=self.link or None, line=self.xml.line(origin)))
         return Pose(inr.rpy_to_matrix(rpy), xyz)
 
     # --- elements
