@@ -114,8 +114,6 @@ class Estimator:
                 return None, [Finding("value-malformed", "error", f"{shape.kind} {exc}")], f"its {shape.kind} is malformed"
         key = _mesh_key(shape)
         if key not in self._meshes:
-            from linkcheck.geometry.mesh import mesh_estimate
-
             self._meshes[key] = self._mesh(shape)
         result = self._meshes[key]
         if result.solid is None or not result.trusted:

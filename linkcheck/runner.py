@@ -347,7 +347,7 @@ def _rewrite(doc: Document, edits: dict[str, Any]) -> bytes:
         from linkcheck.formats.sdf import rewrite_sdf
 
         return rewrite_sdf(doc, edits)
-    from linkcheck.formats.urdf import rewrite_urdf
+    from linkcheck.formats.urdf_write import rewrite_urdf
 
     return rewrite_urdf(doc, edits)
 
