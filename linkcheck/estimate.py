@@ -100,7 +100,7 @@ class Estimator:
         axis = getattr(result, "up_axis", None)
         if axis not in ("X_UP", "Y_UP"):
             return None
-        from linkcheck.geometry.mesh import up_axis_rotation
+        from linkcheck.geometry.mesh_io import up_axis_rotation
 
         return axis, up_axis_rotation(axis)
 
@@ -121,7 +121,8 @@ class Estimator:
         return result.solid, list(result.findings), None
 
     def _mesh(self, shape: Any) -> Any:
-        from linkcheck.geometry.mesh import mesh_estimate, mesh_vertices
+        from linkcheck.geometry.mesh import mesh_estimate
+        from linkcheck.geometry.mesh_io import mesh_vertices
 
         result = mesh_estimate(shape.uri or "", shape.base_dir, shape.scale, self.search, self.cache,
                                max_extent=self.settings.mesh_max_extent, min_extent=self.settings.mesh_min_extent,

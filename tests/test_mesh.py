@@ -499,27 +499,23 @@ def test_fixture_glb_pair_and_open_bracket() -> None:
     assert open_.solid.volume > 5.5e-5  # the hull of an L is larger than the L
 
 
-def test_exact_hull_points_contain_the_cheap_ones(tmp_path: Path) -> None:
-    from linkcheck.geometry.cache import MeshCache
-    from linkcheck.geometry.mesh import mesh_hull_points
+def test_mesh_vertices_hold_the_whole_hull(tmp_path: Path) -> None:
+    from linkcheck.geometry.mesh_io import mesh_vertices
 
     sphere = trimesh.creation.icosphere(subdivisions=3, radius=0.4)
     path = write_binary_stl(tmp_path / "s.stl", sphere.triangles)
-    cache = MeshCache(tmp_path / "cache")
-    hull = mesh_hull_points(path, (1.0, 2.0, 1.0), cache)
-    # every vertex of a sphere is a hull vertex: trimesh's (qhull) hull of the scaled mesh agrees
+    verts = mesh_vertices(path, (1.0, 2.0, 1.0))
+    # trimesh's (qhull) hull of the scaled mesh: every one of its vertices is among ours
     ref = f32_mesh(sphere).apply_transform(np.diag([1.0, 2.0, 1.0, 1.0])).convex_hull
-    assert len(hull) == len(ref.vertices)
-    assert np.allclose(np.sort(hull, axis=0), np.sort(ref.vertices, axis=0), atol=1e-7)
-    assert np.array_equal(mesh_hull_points(path, (1.0, 2.0, 1.0), cache), hull)  # from the cache
+    ours = {tuple(np.round(p, 6)) for p in verts}
+    assert all(tuple(np.round(p, 6)) in ours for p in ref.vertices)
     cheap = estimate(path, (1.0, 2.0, 1.0)).solid.points
-    hull_rows = {tuple(np.round(p, 6)) for p in hull}
-    assert all(tuple(np.round(p, 6)) in hull_rows for p in cheap)
+    assert all(tuple(np.round(p, 6)) in ours for p in cheap)
 
 
 def test_dae_reports_its_up_axis(tmp_path: Path) -> None:
     pytest.importorskip("collada")
-    from linkcheck.geometry.mesh import up_axis_rotation
+    from linkcheck.geometry.mesh_io import up_axis_rotation
 
     est = estimate(box_dae(tmp_path / "y.dae", (1, 2, 3), 1.0, "Y_UP"))
     assert est.up_axis == "Y_UP"

@@ -5,7 +5,7 @@ regular expression. OBJ, COLLADA, glTF/GLB, PLY and OFF go through trimesh, impo
 with every scene node's transform baked in and all parts concatenated.
 
 COLLADA: ``<unit meter>`` is applied (ROS viewers and Gazebo do; trimesh only records it) and
-``<up_axis>`` is ignored (rviz and Gazebo drop the up-axis rotation), so the estimate matches
+``<up_axis>`` is ignored (rviz and Gazebo drop the up-axis rotation; loading is in mesh_io.py), so the estimate matches
 what those tools simulate and show. glTF is taken in metres with no axis conversion.
 
 The integral is the divergence theorem over signed tetrahedra, in float64, with coordinates
@@ -18,7 +18,6 @@ bit pattern, edge-use counts, winding propagation), whose result the cache keeps
 
 from __future__ import annotations
 
-import re
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -26,6 +25,7 @@ from typing import Any
 import numpy as np
 
 from linkcheck.geometry.cache import MeshCache
+from linkcheck.geometry.mesh_io import LOADERS, UP_AXIS_RE, MeshError, load_triangles
 from linkcheck.geometry.resolve import Resolution, SearchPaths, resolve_uri
 from linkcheck.geometry.solid import Solid
 from linkcheck.inertia import MassProperties
@@ -33,22 +33,10 @@ from linkcheck.model import Finding
 from linkcheck.settings import DEFAULT
 
 #: Loader names by lower-case extension; the loader is part of the cache key.
-LOADERS = {".stl": "stl", ".obj": "trimesh", ".dae": "dae", ".glb": "trimesh", ".gltf": "trimesh",
-           ".ply": "trimesh", ".off": "trimesh"}
 #: Relative size of the closure residuals below which a surface counts as closed.
 CLOSURE_TOL = 1e-7
 #: Unit factors tried by the units hints: millimetres, centimetres, inches, and the reverse.
 UNIT_FACTORS = (1e-3, 1e-2, 0.0254, 1e3)
-_STL_RECORD = np.dtype([("n", "<f4", (3,)), ("v", "<f4", (3, 3)), ("attr", "<u2")])
-_VERTEX_RE = re.compile(rb"vertex\s+(\S+)\s+(\S+)\s+(\S+)", re.I)  # some exporters write upper case
-_UP_RE = re.compile(rb"<up_axis>\s*([XYZ]_UP)\s*</up_axis>")
-_UNIT_RE = re.compile(rb"<unit\b[^>]*?\bmeter\s*=\s*[\"']([^\"']+)[\"']")
-
-
-class MeshError(Exception):
-    """A mesh that cannot be used; the message is the reason, in words for the user."""
-
-
 @dataclass(frozen=True)
 class MeshEstimate:
     """What a mesh contributes to its link.
@@ -200,97 +188,6 @@ def _with_uri(f: Finding, uri: str, path: Path) -> Finding:
     return Finding(f.rule, f.severity, f"mesh '{uri}'{where}: {f.message}", data={**f.data, "uri": uri})
 
 
-# --------------------------------------------------------------------------- loading
-
-
-def load_triangles(data: bytes, loader: str, path: Path, submesh: str | None = None, center: bool = False) -> np.ndarray:
-    """(n, 3, 3) triangle corners in file units (metres for DAE after ``<unit meter>``).
-
-    ``submesh`` keeps only the part with that geometry or node name (SDFormat ``<submesh>``);
-    ``center`` then moves its bounding-box centre to the origin, as Gazebo does.
-    """
-    if loader == "stl":
-        if submesh:
-            raise MeshError(f"submesh '{submesh}' requested, but an STL file has no named parts")
-        return _read_stl(data)
-    tris = _read_with_trimesh(path, data, submesh)
-    if submesh and center:
-        flat = tris.reshape(-1, 3)
-        tris = tris - 0.5 * (flat.min(axis=0) + flat.max(axis=0))
-    if loader == "dae":
-        match = _UNIT_RE.search(data)
-        if match:
-            try:
-                unit = float(match.group(1))
-            except ValueError:
-                raise MeshError(f"COLLADA <unit meter=\"{match.group(1).decode(errors='replace')}\"> is not a number") from None
-            if not np.isfinite(unit) or unit <= 0:
-                raise MeshError(f"COLLADA <unit meter> must be positive (got {unit})")
-            tris = tris * unit
-    return tris
-
-
-def _read_stl(data: bytes) -> np.ndarray:
-    size = len(data)
-    count = int(np.frombuffer(data, "<u4", 1, 80)[0]) if size >= 84 else -1
-    if count >= 0 and 84 + 50 * count == size:
-        return np.frombuffer(data, _STL_RECORD, count, 84)["v"]
-    head = data[:512].lstrip()
-    if head[:5].lower() == b"solid" and (b"facet" in data[:4096].lower() or b"endsolid" in data[-512:].lower()):
-        found = _VERTEX_RE.findall(data)
-        if len(found) % 3:
-            raise MeshError(f"ASCII STL has {len(found)} vertices, not a multiple of 3")
-        try:
-            return np.array(found, dtype=float).reshape(-1, 3, 3)
-        except ValueError as exc:
-            raise MeshError(f"ASCII STL has a vertex that is not a number ({exc})") from None
-    if count > 0 and size > 84 + 50 * count:
-        return np.frombuffer(data, _STL_RECORD, count, 84)["v"]
-    if size < 84:
-        raise MeshError(f"not an STL file ({size} bytes: too short for binary, no 'solid' header)")
-    raise MeshError(f"binary STL is truncated: header says {count} triangles ({84 + 50 * count} bytes), file has {size}")
-
-
-def _read_with_trimesh(path: Path, data: bytes, submesh: str | None = None) -> np.ndarray:
-    import io
-    import logging
-
-    import trimesh
-
-    logging.getLogger("trimesh").setLevel(logging.ERROR)
-    ext = path.suffix.lower().lstrip(".")
-    try:
-        if ext == "gltf":
-            scene = trimesh.load_scene(str(path), process=False)  # external buffers sit beside it
-        else:
-            scene = trimesh.load_scene(io.BytesIO(data), file_type=ext, process=False)
-    except ImportError as exc:
-        raise MeshError(f"needs an optional package to read '.{ext}' ({exc})") from None
-    except Exception as exc:
-        raise MeshError(f"corrupt or unreadable '.{ext}' file ({type(exc).__name__}: {exc})") from None
-    parts = []
-    names: set[str] = set()
-    for node in scene.graph.nodes_geometry:
-        transform, geom_name = scene.graph[node]
-        names.update((str(node), str(geom_name)))
-        if submesh is not None and submesh not in (node, geom_name):
-            continue
-        geom = scene.geometry.get(geom_name)
-        if geom is None or not hasattr(geom, "faces") or len(geom.faces) == 0:
-            continue
-        tris = np.asarray(geom.vertices, dtype=float)[np.asarray(geom.faces)]
-        transform = np.asarray(transform, dtype=float)
-        tris = tris @ transform[:3, :3].T + transform[:3, 3]
-        if np.linalg.det(transform[:3, :3]) < 0:
-            tris = tris[:, [0, 2, 1]]
-        parts.append(tris)
-    if not parts and submesh is not None:
-        raise MeshError(f"submesh '{submesh}' not found (parts: {', '.join(sorted(names)) or 'none'})")
-    if not parts:
-        raise MeshError("the file holds no triangles")
-    return np.concatenate(parts)
-
-
 # --------------------------------------------------------------------------- integration
 
 
@@ -371,18 +268,9 @@ def _extreme_points(cols: np.ndarray) -> np.ndarray:
 def _compute(data: bytes, loader: str, path: Path, scale: np.ndarray, part: tuple[str, bool] | None = None) -> _Result:
     result = _compute_solid(data, loader, path, scale, part)
     if loader == "dae":
-        match = _UP_RE.search(data)
+        match = UP_AXIS_RE.search(data)
         result.up_axis = match.group(1).decode() if match else "Y_UP"  # COLLADA's default
     return result
-
-
-def up_axis_rotation(up_axis: str | None) -> np.ndarray:
-    """Rotation taking a COLLADA file's up axis to +z: what a loader that honours it applies."""
-    if up_axis == "Y_UP":
-        return np.array([[1.0, 0.0, 0.0], [0.0, 0.0, -1.0], [0.0, 1.0, 0.0]])
-    if up_axis == "X_UP":
-        return np.array([[0.0, 0.0, -1.0], [0.0, 1.0, 0.0], [1.0, 0.0, 0.0]])
-    return np.eye(3)
 
 
 def _compute_solid(data: bytes, loader: str, path: Path, scale: np.ndarray, part: tuple[str, bool] | None) -> _Result:
@@ -612,62 +500,6 @@ def _hull(verts: np.ndarray) -> tuple[MassProperties, np.ndarray] | None:
     if it.volume <= 0:
         return None
     return _props(it), hull.points[hull.vertices] + origin
-
-
-def mesh_vertices(path: Path, scale: tuple[float, float, float] = (1.0, 1.0, 1.0),
-                  submesh: str | None = None, center: bool = False) -> np.ndarray | None:
-    """Every triangle corner of the scaled mesh, (3n, 3) float64, or None if it cannot be read.
-
-    Their convex hull is the mesh's hull: what a point-in-hull or largest-distance test needs,
-    without building the hull (GJK works on the points directly).
-    """
-    try:
-        path = Path(path)
-        loader = LOADERS.get(path.suffix.lower())
-        if loader is None:
-            return None
-        tris = load_triangles(path.read_bytes(), loader, path, submesh, center)
-        verts = np.asarray(tris, dtype=float).reshape(-1, 3) * np.asarray(scale, dtype=float)
-        return verts if np.isfinite(verts).all() else None
-    except Exception:  # only ever a refinement: without it the caller keeps the cheap points
-        return None
-
-
-def mesh_hull_points(path: Path, scale: tuple[float, float, float] = (1.0, 1.0, 1.0), cache: MeshCache | None = None) -> np.ndarray | None:
-    """Every vertex of the convex hull of the scaled mesh (scipy, imported here), or None.
-
-    ``MeshEstimate.solid.points`` is a cheap subset whose hull lies inside the true one; call
-    this to confirm before reporting a point as outside a mesh. Cached like the estimate.
-    """
-    try:
-        path = Path(path)
-        loader = LOADERS.get(path.suffix.lower())
-        if loader is None:
-            return None
-        data: bytes | None = None
-        key = None
-        if cache is not None:
-            digest, data = cache.digest(path)
-            key = cache.key(digest, tuple(float(v) for v in scale), "hull-" + loader)  # type: ignore[arg-type]
-            hit = cache.get(key)
-            if hit is not None and isinstance(hit.get("hull"), list):
-                return np.array(hit["hull"], dtype=float).reshape(-1, 3)
-        if data is None:
-            data = path.read_bytes()
-        verts = np.asarray(load_triangles(data, loader, path), dtype=float).reshape(-1, 3) * np.asarray(scale, dtype=float)
-        if not np.isfinite(verts).all():
-            return None
-        hull = _hull(verts)
-        if hull is None:
-            return None
-        if cache is not None and key is not None:
-            cache.put(key, {"hull": hull[1].tolist()})
-        return hull[1]
-    except Exception:  # only ever a refinement: without it the caller keeps the cheap points
-        return None
-
-
-# --------------------------------------------------------------------------- units
 
 
 def _units_finding(uri: str, points: np.ndarray, scale: tuple[float, ...], max_extent: float, min_extent: float) -> Finding | None:
