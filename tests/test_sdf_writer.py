@@ -67,7 +67,7 @@ def test_round_trip_values_and_idempotence():
 
 def test_missing_children_inserted_in_canonical_order_and_indent():
     doc = read_sdf(FIXTURE)
-    new = rewrite_sdf(doc, {"yaw_arm": edit(com=(0.012, 0, -0.03), mass=0.09, moments=(2.9e-05, 2e-5, 1.1e-05))})
+    new = rewrite_sdf(doc, {"yaw_arm": edit(com=(0.005, 0, -0.009), mass=0.09, moments=(2.9e-05, 2e-5, 1.1e-05))})
     # pose and mass already equal: untouched; only iyy and iyz inserted, after ixz, in the file's indent
     assert changed_lines(doc.data, new) == ["+          <iyy>2e-5</iyy>", "+          <iyz>0</iyz>"]
 
