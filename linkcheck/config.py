@@ -8,18 +8,17 @@ raise ConfigError naming the file, line and key: a typo must never be ignored.
 
 from __future__ import annotations
 
-import fnmatch
 import math
 import re
 import sys
 from dataclasses import fields
 from functools import lru_cache
 from pathlib import Path
-from typing import Any, NamedTuple
+from typing import Any
 
 from linkcheck.errors import ConfigError
 from linkcheck.rules import RULES, suggest
-from linkcheck.settings import DEFAULT, LinkOverride, Settings
+from linkcheck.settings import DEFAULT, LinkOverride, LinkSettings, Settings
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -61,14 +60,6 @@ LINK_KEYS = ("pattern", "ignore", "density", "mass")
 #: Pairs that must be ordered: (smaller, larger).
 ORDERED = (("com-offset-info", "com-offset-warn"), ("mismatch-scale-info", "mismatch-scale-warn"),
            ("mismatch-shape-info", "mismatch-shape-warn"), ("mesh-min-extent", "mesh-max-extent"))
-
-
-class LinkSettings(NamedTuple):
-    """What the ``[[links]]`` sections matching one link say."""
-
-    ignore: tuple[str, ...]
-    density: float | None
-    mass: float | None
 
 
 class _Where:
@@ -389,19 +380,8 @@ def _check_order(settings: Settings, source: Path | None) -> None:
 
 
 def link_settings(settings: Settings, link_name: str) -> LinkSettings:
-    """Merge the [[links]] sections whose glob matches ``link_name`` (case-sensitive).
-
-    Ignored rules add up over all matching sections; for density and mass the last
-    matching section that sets one wins, so specific patterns go after general ones.
-    """
-    ignore: dict[str, None] = {}
-    density = mass = None
-    for override in settings.links:
-        if fnmatch.fnmatchcase(link_name, override.pattern):
-            ignore.update(dict.fromkeys(override.ignore))
-            density = override.density if override.density is not None else density
-            mass = override.mass if override.mass is not None else mass
-    return LinkSettings(tuple(ignore), density, mass)
+    """The [[links]] settings of one link (see Settings.for_link)."""
+    return settings.for_link(link_name)
 
 
 def rule_enabled(settings: Settings, rule: str, link_name: str | None = None) -> bool:
@@ -410,7 +390,7 @@ def rule_enabled(settings: Settings, rule: str, link_name: str | None = None) ->
         return False
     if rule in settings.ignore:
         return False
-    return link_name is None or rule not in link_settings(settings, link_name).ignore
+    return link_name is None or rule not in settings.for_link(link_name).ignore
 
 
 def severity_of(settings: Settings, rule: str, default: str) -> str:

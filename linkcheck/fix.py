@@ -11,7 +11,6 @@ missing blocks are added only with ``fill_missing`` and a mass source.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from fnmatch import fnmatchcase
 
 import numpy as np
 
@@ -297,15 +296,13 @@ def mass_source(ctx: LinkContext, options: FixOptions) -> MassSource | None:
     """Mass for a link from, in order: per-link mass, per-link density, --density or the
     configured default density, the SDF collision densities; None when there is none."""
     volume = ctx.estimate.volume if ctx.estimate is not None else 0.0
-    overrides = [o for o in ctx.settings.links if fnmatchcase(ctx.name, o.pattern)]
-    for o in overrides:
-        if o.mass is not None and o.mass > 0:
-            return MassSource(float(o.mass), f"the per-link mass ({o.pattern!r})")
+    own = ctx.settings.for_link(ctx.name)
+    if own.mass is not None and own.mass > 0:
+        return MassSource(float(own.mass), f"the per-link mass for '{ctx.name}'")
     if volume <= 0:
         return None
-    for o in overrides:
-        if o.density is not None and o.density > 0:
-            return MassSource(o.density * volume, f"the per-link density {o.density:g} kg/m^3 ({o.pattern!r})")
+    if own.density is not None and own.density > 0:
+        return MassSource(own.density * volume, f"the per-link density {own.density:g} kg/m^3 for '{ctx.name}'")
     if options.density is not None and options.density > 0:
         return MassSource(options.density * volume, f"--density {options.density:g} kg/m^3")
     default = ctx.settings.default_density

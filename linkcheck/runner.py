@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field, replace
-from fnmatch import fnmatch
 from pathlib import Path
 from typing import Any
 
@@ -261,19 +260,15 @@ def _group_context(root: LinkContext, members: list[tuple[LinkContext, Pose]]) -
 
 
 def select(findings: list[Finding], settings: Settings, links: list[Link] | None = None) -> list[Finding]:
-    """Apply --select/--ignore, per-link ignores and severity overrides."""
+    """Apply select/ignore, per-link ignores and severity overrides (xml-malformed always shows)."""
+    from linkcheck.config import rule_enabled, severity_of
+
     out = []
-    overrides = settings.links
     for f in findings:
-        if settings.select and f.rule not in settings.select and f.rule != "xml-malformed":
+        if f.rule != "xml-malformed" and not rule_enabled(settings, f.rule, f.link):
             continue
-        if f.rule in settings.ignore:
-            continue
-        if f.link is not None and any(f.rule in o.ignore for o in overrides if fnmatch(f.link, o.pattern)):
-            continue
-        if f.rule in settings.severity:
-            f = replace(f, severity=settings.severity[f.rule])  # type: ignore[arg-type]
-        out.append(f)
+        severity = severity_of(settings, f.rule, f.severity)
+        out.append(f if severity == f.severity else replace(f, severity=severity))  # type: ignore[arg-type]
     return out
 
 

@@ -7,7 +7,8 @@ command line; checks read it through their LinkContext.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any
+from fnmatch import fnmatchcase
+from typing import Any, NamedTuple
 
 
 @dataclass(frozen=True)
@@ -18,6 +19,14 @@ class LinkOverride:
     ignore: tuple[str, ...] = ()
     density: float | None = None  # kg/m^3
     mass: float | None = None  # kg
+
+
+class LinkSettings(NamedTuple):
+    """What the ``[[links]]`` sections matching one link say."""
+
+    ignore: tuple[str, ...]
+    density: float | None
+    mass: float | None
 
 
 @dataclass(frozen=True)
@@ -58,6 +67,21 @@ class Settings:
     package_paths: dict[str, str] = field(default_factory=dict)  # package name -> folder
     model_paths: tuple[str, ...] = ()
     links: tuple[LinkOverride, ...] = ()
+
+    def for_link(self, link_name: str) -> LinkSettings:
+        """Merge the [[links]] sections whose glob matches ``link_name`` (case-sensitive).
+
+        Ignored rules add up over all matching sections; for density and mass the last
+        matching section that sets one wins, so specific patterns go after general ones.
+        """
+        ignore: dict[str, None] = {}
+        density = mass = None
+        for override in self.links:
+            if fnmatchcase(link_name, override.pattern):
+                ignore.update(dict.fromkeys(override.ignore))
+                density = override.density if override.density is not None else density
+                mass = override.mass if override.mass is not None else mass
+        return LinkSettings(tuple(ignore), density, mass)
 
     def replace(self, **changes: Any) -> Settings:
         from dataclasses import replace

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import json
 import math
-from fnmatch import fnmatch
 from typing import Any
 
 from linkcheck.model import Finding
@@ -56,10 +55,8 @@ def link_entry(ctx: Any) -> dict[str, Any]:
 
 
 def _density_for(ctx: Any) -> float | None:
-    for o in ctx.settings.links:
-        if fnmatch(ctx.name, o.pattern) and o.density:
-            return float(o.density)
-    return ctx.settings.default_density
+    density = ctx.settings.for_link(ctx.name).density
+    return float(density) if density else ctx.settings.default_density
 
 
 def file_entry(result: Any, display_path: str | None = None) -> dict[str, Any]:
