@@ -27,6 +27,8 @@ class LinkEstimate:
     #: estimate ignore; set only when some mesh declares a non-Z up axis (names it in ``up_axis``).
     up_axis_solid: Solid | None = None
     up_axis: str | None = None
+    #: Each body that went into ``solid``, with its own volume (m^3).
+    volumes: tuple[tuple[Body, float], ...] = ()
 
 
 @dataclass
@@ -69,6 +71,7 @@ class Estimator:
     def _estimate(self, link: Link, role: str) -> LinkEstimate:
         solids: list[Solid] = []
         turned: list[Solid] = []
+        volumes: list[tuple[Body, float]] = []
         axes: set[str] = set()
         notes: list[Finding] = []
         for body in link.bodies_of(role):
@@ -83,13 +86,15 @@ class Estimator:
             if solid is None:
                 return LinkEstimate(None, role, why, tuple(notes))
             solids.append(solid.transformed(body.pose))
+            volumes.append((body, solid.volume))
             up = self._up_axis(body)
             turned.append(solid.transformed(body.pose.compose(Pose(up[1]))) if up else solids[-1])
             axes |= {up[0]} if up else set()
         if not solids:
             return LinkEstimate(None, None, "the link has no geometry with volume", tuple(notes))
         alternative = union(turned) if axes else None
-        return LinkEstimate(union(solids), role, None, tuple(notes), alternative, ", ".join(sorted(axes)) or None)
+        return LinkEstimate(union(solids), role, None, tuple(notes), alternative, ", ".join(sorted(axes)) or None,
+                            tuple(volumes))
 
     def _up_axis(self, body: Body) -> tuple[str, np.ndarray] | None:
         """(up_axis, rotation) of a COLLADA mesh body whose up axis is not +z, else None."""
@@ -136,6 +141,20 @@ class Estimator:
             return cheap if exact is None else exact
 
         return replace(result, solid=replace(result.solid, refine=once(hull)))
+
+
+#: SDFormat's density when neither the collision nor the link gives one (FORMATS.md §2.5).
+SDF_DEFAULT_DENSITY = 1000.0
+
+
+def density_mass(volumes: tuple[tuple[Body, float], ...], link_density: float | None) -> tuple[float, tuple[float, ...]]:
+    """Σ ρ_i V_i over the bodies, ρ by SDF precedence: collision <density> > link <inertial><density> > 1000.
+
+    Returns the mass and the distinct densities used.
+    """
+    default = link_density if link_density else SDF_DEFAULT_DENSITY
+    rhos = [b.density if b.density is not None else default for b, _ in volumes]
+    return sum(r * v for r, (_, v) in zip(rhos, volumes)), tuple(sorted(set(rhos)))
 
 
 def _mesh_key(shape: Any) -> tuple:

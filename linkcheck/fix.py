@@ -16,9 +16,10 @@ import numpy as np
 
 from linkcheck import inertia as mp
 from linkcheck.checks.context import LinkContext
+from linkcheck.estimate import density_mass
 from linkcheck.formats.numbers import InertialEdit
 from linkcheck.inertia import MassProperties
-from linkcheck.model import SOLID_SHAPES, Finding
+from linkcheck.model import Finding
 
 #: Rules no fix can repair: the data a fix would need is not there.
 NEVER_FIXABLE = ("value-malformed", "mesh-unavailable", "estimate-unavailable")
@@ -40,7 +41,6 @@ FILL_RULES = ("inertial-missing", "massless-moving-link")
 MASS_RULES = ("mass-not-positive",)
 
 #: SDFormat's density when a collision and its link give none (kg/m^3, water).
-SDF_DEFAULT_DENSITY = 1000.0
 
 ESTIMATE_NOTE = "uniform-density estimate"
 TENSOR_KEYS = ("ixx", "ixy", "ixz", "iyy", "iyz", "izz")
@@ -313,22 +313,12 @@ def mass_source(ctx: LinkContext, options: FixOptions) -> MassSource | None:
 
 def _sdf_density_mass(ctx: LinkContext, volume: float) -> MassSource | None:
     """Density-weighted mass of the collision bodies when any states an SDF <density>."""
-    if ctx.geometry_source not in (None, "collision"):
+    if ctx.geometry_source not in (None, "collision") or not any(b.density is not None for b, _ in ctx.volumes):
         return None
-    bodies = [b for b in ctx.link.bodies_of("collision") if b.shape is not None and b.shape.kind in SOLID_SHAPES]
-    if not any(b.density is not None for b in bodies):
-        return None
-    link_density = ctx.inertial.density if ctx.inertial is not None and ctx.inertial.density else None
-    densities = [b.density if b.density is not None else (link_density or SDF_DEFAULT_DENSITY) for b in bodies]
-    if len(set(densities)) == 1:
-        return MassSource(densities[0] * volume, f"the SDF collision density {densities[0]:g} kg/m^3")
-    from linkcheck.geometry.solid import primitive_solid
-
-    mass = 0.0
-    for body, rho in zip(bodies, densities):
-        if body.shape is None or body.shape.kind == "mesh":
-            return None
-        mass += rho * primitive_solid(body.shape).volume
+    link_density = ctx.inertial.density if ctx.inertial is not None else None
+    mass, densities = density_mass(ctx.volumes, link_density)
+    if len(densities) == 1:
+        return MassSource(mass, f"the SDF collision density {densities[0]:g} kg/m^3")
     return MassSource(mass, "the SDF collision densities")
 
 

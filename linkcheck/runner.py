@@ -10,7 +10,7 @@ import numpy as np
 
 from linkcheck.checks import evaluate
 from linkcheck.checks.context import LinkContext
-from linkcheck.estimate import Estimator, LinkEstimate
+from linkcheck.estimate import SDF_DEFAULT_DENSITY, Estimator, LinkEstimate, density_mass
 from linkcheck.geometry.solid import union
 from linkcheck.inertia import combine
 from linkcheck.model import Document, Finding, Joint, Link, Pose
@@ -84,7 +84,7 @@ def check_document(doc: Document, settings: Settings, estimator: Estimator | Non
     stated = {k.name: (k.inertial.mass_properties() if k.inertial is not None else None) for k in doc.links}
     masses = {name: (s.mass if s is not None and np.isfinite(s.mass) and s.mass > 0 else 0.0) for name, s in stated.items()}
 
-    static = {k.name for k in doc.links if k.static or getattr(k.handle, "static", False)}
+    static = {k.name for k in doc.links if k.static}
     auto = {k.name for k in doc.links if k.inertial is not None and k.inertial.auto}
     estimates: dict[str, LinkEstimate] = {}
     autos: dict[str, AutoInertia] = {}
@@ -112,6 +112,7 @@ def check_document(doc: Document, settings: Settings, estimator: Estimator | Non
             estimate_reason=est.reason,
             parent_joint=parents.get(link.name),
             subtree_mass=subtree[link.name],
+            volumes=est.volumes,
         )
         contexts.append(ctx)
         if link.name in static:
@@ -128,7 +129,7 @@ def check_document(doc: Document, settings: Settings, estimator: Estimator | Non
                                  link.name, link.line))
         findings.extend(found)
     findings = [f for f in findings if f.link not in static or f.severity == "error"]
-    findings = _clear_by_groups(doc, contexts, findings, parents, settings)
+    findings = _clear_by_groups(contexts, findings, parents)
     return contexts, findings
 
 
@@ -171,9 +172,8 @@ def auto_inertia(link: Link, est: LinkEstimate, settings: Settings) -> AutoInert
                                          f"link '{name}': <inertial auto=\"true\"> needs collision geometry, and the link "
                                          "has none: simulators refuse to compute its inertia", name, line)])
     out: list[Finding] = []
-    default = inertial.density if inertial.density is not None else 1000.0
-    densities = {b.density if b.density is not None else default for b in collisions}
-    for rho in sorted(densities):
+    default = inertial.density if inertial.density is not None else SDF_DEFAULT_DENSITY
+    for rho in sorted({b.density if b.density is not None else default for b in collisions}):
         if not settings.density_min <= rho <= settings.density_max:
             out.append(Finding("density-implausible", "warning",
                                f"link '{name}': auto inertia uses a density of {words.num(rho)} kg/m³ (plausible: "
@@ -181,11 +181,7 @@ def auto_inertia(link: Link, est: LinkEstimate, settings: Settings) -> AutoInert
     solid = est.solid
     if solid is None or est.source != "collision":
         return AutoInertia(0.0, out)
-    if len(densities) == 1:
-        rho = densities.pop()
-        mass = rho * solid.volume
-    else:
-        mass = sum((b.density if b.density is not None else default) for b in collisions) / len(collisions) * solid.volume
+    mass, _ = density_mass(est.volumes, inertial.density)
     if "mass" not in inertial.missing:
         mass = inertial.mass
     props = solid.props.with_mass(mass)
@@ -216,8 +212,7 @@ def _subtree_masses(doc: Document, masses: dict[str, float], children: dict[str,
     return out
 
 
-def _clear_by_groups(doc: Document, contexts: list[LinkContext], findings: list[Finding],
-                     parents: dict[str, Joint], settings: Settings) -> list[Finding]:
+def _clear_by_groups(contexts: list[LinkContext], findings: list[Finding], parents: dict[str, Joint]) -> list[Finding]:
     """Judge links joined by fixed joints also as one rigid body; drop per-link blame the group clears."""
     by_name = {c.name: c for c in contexts}
     groups: dict[str, list[tuple[str, Pose]]] = {}
@@ -259,7 +254,7 @@ def _group_context(root: LinkContext, members: list[tuple[LinkContext, Pose]]) -
                    group=tuple(m.name for m, _ in members))
 
 
-def select(findings: list[Finding], settings: Settings, links: list[Link] | None = None) -> list[Finding]:
+def select(findings: list[Finding], settings: Settings) -> list[Finding]:
     """Apply select/ignore, per-link ignores and severity overrides (xml-malformed always shows)."""
     from linkcheck.config import rule_enabled, severity_of
 
@@ -270,7 +265,6 @@ def select(findings: list[Finding], settings: Settings, links: list[Link] | None
         severity = severity_of(settings, f.rule, f.severity)
         out.append(f if severity == f.severity else replace(f, severity=severity))  # type: ignore[arg-type]
     return out
-
 
 
 
@@ -298,7 +292,7 @@ def run_file(path: Path, settings: Settings, options: RunOptions = RunOptions(),
 def _visible(findings: list[Finding], settings: Settings, doc: Document) -> list[Finding]:
     from linkcheck.suppress import apply_suppressions
 
-    return apply_suppressions(select(findings, settings, doc.links), doc.links, settings)
+    return apply_suppressions(select(findings, settings), doc.links, settings)
 
 
 def _plan_and_splice(result: FileResult, settings: Settings, options: RunOptions, estimator: Estimator) -> None:

@@ -56,6 +56,7 @@ def make_ctx(
         estimate=estimate,
         geometry_source="collision" if shapes else None,
         estimate_reason=estimate_reason,
+        volumes=tuple((b, _solid(s, p).volume) for b, (s, p) in zip(bodies, shapes)),
     )
 
 

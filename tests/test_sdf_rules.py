@@ -48,3 +48,13 @@ def test_defaulted_moments_are_reported_once():
     # iyy = izz = 1 kg m² fill in silently: incomplete, not a cascade of tensor errors
     assert "inertial-incomplete" in rules
     assert not rules & {"inertia-triangle-inequality", "inertia-exceeds-geometry", "inertia-mismatch"}
+
+
+def test_auto_inertia_with_mixed_densities_sums_per_collision():
+    # FORMATS.md §2.5: each collision's own <density>; 0.1 m cubes (1e-3 m³ each) at 1000 and 3000 kg/m³
+    cube = '<geometry><box><size>0.1 0.1 0.1</size></box></geometry>'
+    found = findings(f'<link name="a"><inertial auto="true"/>'
+                     f'<collision name="c1"><pose>0.1 0 0 0 0 0</pose><density>1000</density>{cube}</collision>'
+                     f'<collision name="c2"><pose>-0.1 0 0 0 0 0</pose><density>3000</density>{cube}</collision></link>')
+    (note,) = [f for f in found if f.rule == "geometry-note"]
+    assert "about 4 kg" in note.message  # 1 kg + 3 kg

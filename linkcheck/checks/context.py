@@ -36,6 +36,8 @@ class LinkContext:
     subtree_mass: float = 0.0
     #: Names of the links merged into this context when judged as one rigid body.
     group: tuple[str, ...] = ()
+    #: The bodies that went into ``estimate``, each with its own volume (m^3), for per-body densities.
+    volumes: tuple = ()
 
     @property
     def name(self) -> str:
