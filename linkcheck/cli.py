@@ -139,13 +139,15 @@ def _report(args: argparse.Namespace, session: Any, results: list[Any], problems
 
     out = sys.stdout
     changed = [r for r in results if r.changed]
-    written = 0
     if args.fix and not args.diff:
         from linkcheck.writeback import write_atomic
 
         for r in changed:
             write_atomic(r.path, r.new_data)
-            written += 1
+        if args.format != "text" and any(r.estimated for r in changed):
+            from linkcheck.report.diff import CAUTION
+
+            print(f"linkcheck: caution: {CAUTION}", file=sys.stderr)  # machine output stays parseable
     shown = [r.unwritten() for r in results] if args.diff else results  # nothing written: report the file on disk
     entries = [file_entry(r, _display(r.path)) for r in shown]
     report = build_report(entries, changed=len(changed))

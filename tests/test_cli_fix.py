@@ -113,3 +113,14 @@ def test_fill_missing_with_density_adds_a_block(work):
     links = {k["name"]: k for k in json.loads(run("--format", "json", "demo/harvester.urdf", cwd=work).stdout)["files"][0]["links"]}
     # camera mount box 0.05 x 0.09 x 0.03 m at 1200 kg/m³: 0.162 kg (arithmetic)
     assert links["camera_mount"]["stated"]["mass"] == pytest.approx(1200 * 0.05 * 0.09 * 0.03)
+
+
+def test_fix_with_machine_output_still_cautions_on_stderr(work):
+    p = run("--fix", "--format", "json", "demo/harvester.urdf", cwd=work)
+    json.loads(p.stdout)  # stdout stays one JSON document
+    assert "uniform density" in p.stderr and "hardware" in p.stderr
+
+
+def test_diff_headers_of_an_absolute_path(work):
+    p = run("--diff", str(work / "demo" / "harvester.urdf"), cwd=ROOT)
+    assert f"--- a/{str(work).lstrip('/')}/demo/harvester.urdf" in p.stdout

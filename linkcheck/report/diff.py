@@ -37,7 +37,8 @@ def unified_diff(path: str, old: bytes, new: bytes, context: int = 3) -> str:
         return ""
     a, b = _lines(_text(old)), _lines(_text(new))
     out: list[str] = []
-    for k, line in enumerate(difflib.unified_diff(a, b, f"a/{path}", f"b/{path}", n=context, lineterm="")):
+    name = path.lstrip("/")  # an absolute path still gives git's a/... b/... headers
+    for k, line in enumerate(difflib.unified_diff(a, b, f"a/{name}", f"b/{name}", n=context, lineterm="")):
         if k < 2 or line.startswith("@@"):  # file headers, hunk headers; content starts with ' ', '-', '+'
             out.append(line)
             continue
