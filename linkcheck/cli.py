@@ -124,7 +124,7 @@ def _main(argv: list[str] | None) -> int:
     session = Session(cli=_cli_settings(args), config=args.config, no_cache=args.no_cache,
                       fix=_fix_options(args) if args.fix else None)
     results, problems = session.run(args.paths, MESH_SUFFIXES)
-    return _report(args, session, results, problems)
+    return _report(args, results, problems)
 
 
 def _fix_options(args: argparse.Namespace) -> Any:
@@ -134,7 +134,7 @@ def _fix_options(args: argparse.Namespace) -> Any:
                       density=args.density, keep_frame=args.keep_frame)
 
 
-def _report(args: argparse.Namespace, session: Any, results: list[Any], problems: list[str]) -> int:
+def _report(args: argparse.Namespace, results: list[Any], problems: list[str]) -> int:
     from linkcheck.report.json import build_report, file_entry
 
     out = sys.stdout
@@ -182,9 +182,14 @@ def _report(args: argparse.Namespace, session: Any, results: list[Any], problems
         return 2
     if changed:
         return 1
-    level = FAIL_LEVELS[session.fail_on(args.fail_on)]
-    worst = min((RANK[f["severity"]] for e in entries for f in e["findings"]), default=99)
-    return 1 if level >= 0 and worst <= level else 0
+    return 1 if any(_fails(r, e) for r, e in zip(results, entries)) else 0
+
+
+def _fails(result: Any, entry: dict[str, Any]) -> bool:
+    """A file fails at its own fail-on level (its configuration, or the command line's)."""
+    level = FAIL_LEVELS[result.settings.fail_on if result.settings is not None else "warning"]
+    worst = min((RANK[f["severity"]] for f in entry["findings"]), default=99)
+    return level >= 0 and worst <= level
 
 
 def _print_fixes(out: Any, results: list[Any], diff: bool, color: bool) -> None:

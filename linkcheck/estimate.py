@@ -66,7 +66,7 @@ class Estimator:
             link.name,
             link.line,
         )
-        return replace(visual, findings=visual.findings + (note,))
+        return replace(visual, findings=collision.findings + visual.findings + (note,))
 
     def _estimate(self, link: Link, role: str) -> LinkEstimate:
         solids: list[Solid] = []

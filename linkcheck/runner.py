@@ -35,6 +35,8 @@ class FileResult:
     estimated: bool = False  # some written value came from the uniform-density estimate
     #: contexts and findings of the file as it is on disk, kept when a fix replaced them with the fixed file's
     on_disk: tuple[list[LinkContext], list[Finding]] | None = None
+    #: the settings this file was judged with (its own configuration file, command line applied)
+    settings: Settings | None = None
 
     @property
     def changed(self) -> bool:
@@ -282,7 +284,7 @@ def run_file(path: Path, settings: Settings, options: RunOptions = RunOptions(),
     doc = read_document(path, data, options.search)
     estimator = Estimator(settings, options.search, options.cache)
     contexts, raw = check_document(doc, settings, estimator)
-    result = FileResult(path, doc, contexts, _visible(raw, settings, doc))
+    result = FileResult(path, doc, contexts, _visible(raw, settings, doc), settings=settings)
     if options.fix is None or doc.fatal:
         return result
     _plan_and_splice(result, settings, options, estimator)

@@ -28,13 +28,7 @@ class Session:
             self._settings[folder] = load_settings(folder, self.config, self.cli)
         return self._settings[folder]
 
-    def fail_on(self, cli_value: str | None) -> str:
-        if cli_value:
-            return cli_value
-        levels = {s.fail_on for s in self._settings.values()}
-        return levels.pop() if len(levels) == 1 else "warning"
-
-    def search_for(self, settings: Settings, near: Path) -> Any:
+    def search_for(self, settings: Settings) -> Any:
         from linkcheck.geometry.resolve import SearchPaths
 
         return SearchPaths(package_paths={k: Path(v) for k, v in settings.package_paths.items()},
@@ -74,7 +68,7 @@ class Session:
                 seen.add(key)
                 try:
                     settings = self.settings_for(path)
-                    options = RunOptions(fix=self.fix, search=self.search_for(settings, path), cache=self.cache())
+                    options = RunOptions(fix=self.fix, search=self.search_for(settings), cache=self.cache())
                     results.append(run_file(path, settings, options))
                 except OSError as exc:
                     problems.append(f"{path}: cannot read: {exc.strerror or exc}")
@@ -88,6 +82,6 @@ class Session:
 
         settings = self.settings_for(mesh)
         try:
-            return descriptions_using(mesh, find_repo_root(mesh), self.search_for(settings, mesh))
+            return descriptions_using(mesh, find_repo_root(mesh), self.search_for(settings))
         except OSError as exc:
             raise LinkcheckError(f"{mesh}: cannot scan the repository for its users: {exc}") from exc

@@ -157,3 +157,16 @@ def test_closed_pipe_is_not_an_internal_error(tmp_path):
     p = subprocess.run(f"{sys.executable} -m linkcheck --format json {big} | head -c 10", shell=True, cwd=ROOT,
                        capture_output=True, text=True, timeout=120)
     assert "Traceback" not in p.stderr and "internal error" not in p.stderr
+
+
+def test_each_file_fails_at_its_own_configured_level(tmp_path):
+    # placeholder identity tensor: a warning (DESIGN.md); folder a tolerates warnings, folder b does not
+    body = ('<robot name="r"><link name="p"><inertial><mass value="2"/><inertia ixx="1" ixy="0" ixz="0" iyy="1" '
+            'iyz="0" izz="1"/></inertial></link></robot>')
+    for name, level in (("a", "error"), ("b", "warning")):
+        (tmp_path / name).mkdir()
+        (tmp_path / name / "linkcheck.toml").write_text(f'fail-on = "{level}"\n')
+        (tmp_path / name / "r.urdf").write_text(body)
+    assert run(str(tmp_path / "a" / "r.urdf")).returncode == 0
+    assert run(str(tmp_path / "a" / "r.urdf"), str(tmp_path / "b" / "r.urdf")).returncode == 1
+    assert run("--fail-on", "warning", str(tmp_path / "a" / "r.urdf")).returncode == 1  # CLI beats the file
