@@ -170,3 +170,12 @@ def test_each_file_fails_at_its_own_configured_level(tmp_path):
     assert run(str(tmp_path / "a" / "r.urdf")).returncode == 0
     assert run(str(tmp_path / "a" / "r.urdf"), str(tmp_path / "b" / "r.urdf")).returncode == 1
     assert run("--fail-on", "warning", str(tmp_path / "a" / "r.urdf")).returncode == 1  # CLI beats the file
+
+
+def test_json_computed_mass_from_a_density_when_nothing_is_stated():
+    # camera_mount has geometry, no block: box 0.05 x 0.09 x 0.03 m at 1200 kg/m³ = 0.162 kg (arithmetic)
+    p = run("--format", "json", "--density", "1200", str(DEMO / "harvester.urdf"))
+    cam = next(k for k in json.loads(p.stdout)["files"][0]["links"] if k["name"] == "camera_mount")
+    assert cam["stated"] is None
+    assert cam["computed"]["mass"] == pytest.approx(1200 * 0.05 * 0.09 * 0.03)
+    assert cam["computed"]["inertia"][0][0] == pytest.approx(0.162 * (0.09**2 + 0.03**2) / 12)  # handbook box

@@ -67,6 +67,22 @@ class LinkContext:
             return None
         return self.estimate_at_mass(self.stated.mass)
 
+    @cached_property
+    def computed_density(self) -> float | None:
+        """kg/m³ behind the reported estimate: stated mass over volume, else a configured density."""
+        if self.estimate is None or self.estimate.volume <= 0:
+            return None
+        if self.stated is not None and self.stated.mass > 0:
+            return float(self.stated.mass) / self.estimate.volume
+        density = self.settings.for_link(self.name).density or self.settings.default_density
+        return float(density) if density else None
+
+    @cached_property
+    def computed(self) -> MassProperties | None:
+        """The uniform-density estimate at ``computed_density`` (None without one)."""
+        rho = self.computed_density
+        return None if rho is None else self.estimate.props.scaled(rho)  # type: ignore[union-attr]
+
     def estimate_at_mass(self, mass: float) -> MassProperties | None:
         """The uniform-density estimate scaled to ``mass`` kg."""
         if self.estimate is None or self.estimate.volume <= 0:

@@ -34,29 +34,17 @@ def link_entry(ctx: Any) -> dict[str, Any]:
     s = ctx.stated
     stated = None if s is None else {"mass": _num(s.mass), "com": _vec(s.com), "inertia": _mat(s.inertia)}
     computed = None
-    e = ctx.estimate
+    e, props = ctx.estimate, ctx.computed
     if e is not None and e.volume > 0:
-        mass, density = None, None
-        if s is not None and s.mass > 0:
-            mass, density = float(s.mass), float(s.mass) / e.volume
-        else:
-            density = _density_for(ctx)
-            mass = density * e.volume if density else None
-        props = e.props.with_mass(mass) if mass else None
         computed = {
             "volume": float(e.volume),
-            "density": density,
-            "mass": mass,
+            "density": ctx.computed_density,
+            "mass": float(props.mass) if props is not None else None,
             "com": _vec(e.props.com),
             "inertia": _mat(props.inertia) if props is not None else None,
             "geometry": ctx.geometry_source,
         }
     return {"name": ctx.name, "line": ctx.line, "stated": stated, "computed": computed}
-
-
-def _density_for(ctx: Any) -> float | None:
-    density = ctx.settings.for_link(ctx.name).density
-    return float(density) if density else ctx.settings.default_density
 
 
 def file_entry(result: Any, display_path: str | None = None) -> dict[str, Any]:
