@@ -13,6 +13,7 @@ import re
 from pathlib import Path
 from typing import Any
 
+from helpers import run_linkcheck, write_impossible_cart
 from linkcheck.report.github import escape_data, escape_property, render_github
 
 #: The documented shape: command, space, comma-separated key=value properties, '::', message.
@@ -94,18 +95,8 @@ def test_no_terminal_codes_and_one_command_per_line(tmp_path: Path) -> None:
 
 def test_real_cli_output(tmp_path: Path) -> None:
     """--format github on a description with an impossible tensor: every line a documented command."""
-    import subprocess
-    import sys
-
-    (tmp_path / "cart.urdf").write_text("""<robot name="cart">
-  <link name="base">
-    <inertial><mass value="2"/><inertia ixx="1" ixy="0" ixz="0" iyy="1" iyz="0" izz="3"/></inertial>
-    <collision><geometry><box size="0.1 0.2 0.3"/></geometry></collision>
-  </link>
-</robot>
-""")
-    r = subprocess.run([sys.executable, "-m", "linkcheck", "--format", "github", "cart.urdf"], cwd=tmp_path,
-                       capture_output=True, text=True, timeout=120)
+    write_impossible_cart(tmp_path)
+    r = run_linkcheck("--format", "github", "cart.urdf", cwd=tmp_path)
     assert r.returncode == 1, r.stderr
     parsed = [parse(line) for line in r.stdout.splitlines()]
     assert parsed and all(cmd == "error" for cmd, _, _ in parsed)

@@ -28,40 +28,35 @@ def box_inertia(m: float, a: float, b: float, c: float) -> tuple[float, float, f
     return m * (b * b + c * c) / 12, m * (a * a + c * c) / 12, m * (a * a + b * b) / 12
 
 
-def box_urdf(name: str, inertia: tuple[float, float, float], mass: float = 2.0) -> str:
+def one_link_urdf(robot: str, link: str, mass: str, inertia: tuple[float, float, float], geometry: str,
+                  header: str = "", origin: str = "") -> str:
+    """One link with a diagonal stated tensor and one collision geometry (invented models)."""
     ixx, iyy, izz = inertia
     return f"""<?xml version="1.0"?>
-<!-- demo cart of our own invention -->
-<robot name="{name}">
-  <link name="base">
+{header}<robot name="{robot}">
+  <link name="{link}">
     <inertial>
       <mass value="{mass}"/>
-      <origin xyz="0 0 0" rpy="0 0 0"/>
-      <inertia ixx="{ixx:.9g}" ixy="0" ixz="0" iyy="{iyy:.9g}" iyz="0" izz="{izz:.9g}"/>
+{origin}      <inertia ixx="{ixx:.9g}" ixy="0" ixz="0" iyy="{iyy:.9g}" iyz="0" izz="{izz:.9g}"/>
     </inertial>
     <collision>
-      <geometry><box size="0.1 0.2 0.3"/></geometry>
+      <geometry>{geometry}</geometry>
     </collision>
   </link>
 </robot>
 """
+
+
+def box_urdf(name: str, inertia: tuple[float, float, float], mass: float = 2.0) -> str:
+    return one_link_urdf(name, "base", str(mass), inertia, '<box size="0.1 0.2 0.3"/>',
+                         header="<!-- demo cart of our own invention -->\n",
+                         origin='      <origin xyz="0 0 0" rpy="0 0 0"/>\n')
 
 
 def mesh_urdf() -> str:
-    ixx, iyy, izz = box_inertia(1.0, 0.1, 0.1, 0.1)
-    return f"""<?xml version="1.0"?>
-<robot name="gripper">
-  <link name="finger">
-    <inertial>
-      <mass value="1.0"/>
-      <inertia ixx="{ixx:.9g}" ixy="0" ixz="0" iyy="{iyy:.9g}" iyz="0" izz="{izz:.9g}"/>
-    </inertial>
-    <collision>
-      <geometry><mesh filename="meshes/finger.stl"/></geometry>
-    </collision>
-  </link>
-</robot>
-"""
+    # handbook cube of side 0.1 m, 1 kg; the STL written by stl_cube is trimesh.creation.box
+    return one_link_urdf("gripper", "finger", "1.0", box_inertia(1.0, 0.1, 0.1, 0.1),
+                         '<mesh filename="meshes/finger.stl"/>')
 
 
 def stl_cube(path: Path, side: float) -> None:

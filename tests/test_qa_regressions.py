@@ -11,6 +11,7 @@ from memory), IEEE 754 double range, trimesh as a reference STL reader, and diff
 from __future__ import annotations
 
 import json
+import re
 import subprocess
 import sys
 from pathlib import Path
@@ -182,6 +183,10 @@ def test_fix_does_not_add_a_zero_rpy_the_file_left_out(tmp_path):
     values = dict(part.split("=") for part in new[6].strip()[len("<inertia "):-2].split())
     assert abs(float(values["ixx"].strip("'")) - ixx) < 1e-9 * izz
     assert abs(float(values["iyy"].strip("'")) - iyy) < 1e-9 * izz
+    assert abs(float(values["izz"].strip("'")) - izz) < 1e-9 * izz
+    # handbook: a box's principal axes are its edges, so the products stay zero; the stated 2 kg is kept
+    assert [float(values[k].strip("'")) for k in ("ixy", "ixz", "iyz")] == [0.0, 0.0, 0.0], new[6]
+    assert new[5] == "\t\t\t<mass value='2'/>", new[5]
 
 
 def test_sdf_children_added_to_a_one_line_inertia_stay_on_that_line(tmp_path):
@@ -296,6 +301,12 @@ def test_a_fill_density_outside_the_plausible_range_is_a_usage_error(tmp_path):
     p = run("--fill-missing", "--density", "1200", "g.urdf", cwd=tmp_path)
     assert p.returncode == 1 and 'mass value="0.0012"' in path.read_text(), p.stdout + p.stderr
     assert 'ixx="2e-8"' in path.read_text()
+    # handbook cube m a²/6: all three moments equal, products zero (a cube's inertia is isotropic)
+    (written,) = re.findall(r"<inertia ([^/]*)/>", path.read_text())
+    moments = {k: float(v) for k, v in re.findall(r'(\w+)="([^"]*)"', written)}
+    want = 1200 * 0.01**3 * 0.01**2 / 6
+    assert all(abs(moments[k] - want) <= 1e-9 * want for k in ("ixx", "iyy", "izz")), written
+    assert [moments[k] for k in ("ixy", "ixz", "iyz")] == [0.0, 0.0, 0.0], written
 
 
 def _ascii_cube_stl(a: float) -> str:

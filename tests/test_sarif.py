@@ -17,6 +17,7 @@ from typing import Any
 import jsonschema
 import pytest
 
+from helpers import run_linkcheck, write_impossible_cart
 from linkcheck.report.sarif import render_sarif
 from linkcheck.rules import RULES
 
@@ -156,20 +157,8 @@ def test_plain_text_no_terminal_codes(tmp_path: Path) -> None:
 
 def test_real_cli_output_validates(tmp_path: Path) -> None:
     """The whole path: a description with an impossible tensor (1 + 1 < 3) -> --format sarif -> schema."""
-    import subprocess
-    import sys
-
-    robots = tmp_path / "robots"
-    robots.mkdir()
-    (robots / "cart.urdf").write_text("""<robot name="cart">
-  <link name="base">
-    <inertial><mass value="2"/><inertia ixx="1" ixy="0" ixz="0" iyy="1" iyz="0" izz="3"/></inertial>
-    <collision><geometry><box size="0.1 0.2 0.3"/></geometry></collision>
-  </link>
-</robot>
-""")
-    r = subprocess.run([sys.executable, "-m", "linkcheck", "--format", "sarif", "robots"], cwd=tmp_path,
-                       capture_output=True, text=True, timeout=120)
+    write_impossible_cart(tmp_path / "robots")
+    r = run_linkcheck("--format", "sarif", "robots", cwd=tmp_path)
     assert r.returncode == 1, r.stderr
     doc = json.loads(r.stdout)
     jsonschema.Draft4Validator(SCHEMA).validate(doc)
