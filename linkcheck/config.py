@@ -17,6 +17,7 @@ from pathlib import Path
 from typing import Any
 
 from linkcheck.errors import ConfigError
+from linkcheck.paths import config_candidates
 from linkcheck.rules import RULES, suggest
 from linkcheck.settings import DEFAULT, LinkOverride, LinkSettings, Settings
 
@@ -25,7 +26,6 @@ if sys.version_info >= (3, 11):
 else:  # pragma: no cover - exercised on 3.10 only
     import tomli as tomllib
 
-CONFIG_NAMES = ("linkcheck.toml", "pyproject.toml")
 FAIL_ON = ("error", "warning", "info", "never")
 LEVELS = ("error", "warning", "info")
 GEOMETRY = ("collision", "visual")
@@ -141,12 +141,7 @@ def _section(path: Path, explicit: bool) -> tuple[dict[str, Any], _Where] | None
 @lru_cache(maxsize=None)
 def find_config(folder: Path) -> Path | None:
     """The config file that governs files in ``folder``: the nearest one with a linkcheck section."""
-    for here in (folder, *folder.parents):
-        for name in CONFIG_NAMES:
-            candidate = here / name
-            if candidate.is_file() and _section(candidate, explicit=False) is not None:
-                return candidate
-    return None
+    return next((c for c in config_candidates(folder) if _section(c, explicit=False) is not None), None)
 
 
 @lru_cache(maxsize=None)

@@ -9,9 +9,10 @@ configuration key so the help says what to change.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Iterable
+from typing import TYPE_CHECKING, Iterable
 
-from linkcheck.model import Severity
+if TYPE_CHECKING:
+    from linkcheck.model import Severity
 
 
 @dataclass(frozen=True)

@@ -17,8 +17,8 @@ import numpy as np
 import pytest
 import trimesh
 
-from linkcheck.geometry import cache as cache_mod
-from linkcheck.geometry.cache import MeshCache, default_directory
+from linkcheck import reads
+from linkcheck.geometry.cache import MeshCache, content_digest, default_directory
 from linkcheck.geometry.mesh import mesh_estimate
 from linkcheck.geometry.resolve import SearchPaths
 
@@ -41,7 +41,7 @@ def entries(cache: MeshCache) -> list[Path]:
 @pytest.fixture
 def old_mtime(monkeypatch: pytest.MonkeyPatch) -> None:
     """Files written by a test are brand new; let the stat index trust them anyway."""
-    monkeypatch.setattr(cache_mod, "RACY_SECONDS", -1e9)
+    monkeypatch.setattr(reads, "RACY_SECONDS", -1e9)
 
 
 def test_hit_gives_identical_numbers(tmp_path: Path) -> None:
@@ -101,7 +101,7 @@ def test_stat_index_skips_reading(tmp_path: Path, old_mtime: None, monkeypatch: 
     cache = MeshCache(tmp_path / "cache")
     run(path, cache)
     digest, data = cache.digest(path)
-    assert data is None and digest == cache_mod.content_digest(path.read_bytes())
+    assert data is None and digest == content_digest(path.read_bytes())
 
 
 def test_corrupt_entry_is_ignored_and_rebuilt(tmp_path: Path) -> None:

@@ -5,7 +5,7 @@ so a changed mesh or a new release never reads an old result. Every write goes t
 file in the same folder and is renamed into place (atomic on POSIX and Windows), so a reader
 sees a whole entry or none; a corrupt or foreign entry is ignored and rebuilt. A small stat
 index (size, mtime, inode per path) lets a warm run skip re-reading and re-hashing big meshes;
-a file modified within ``RACY_SECONDS`` of being indexed is always re-hashed.
+a file modified within ``reads.RACY_SECONDS`` of being indexed is always re-hashed.
 """
 
 from __future__ import annotations
@@ -13,14 +13,14 @@ from __future__ import annotations
 import hashlib
 import json
 import os
-import tempfile
 import time
 from pathlib import Path
 from typing import Any
 
+from linkcheck import reads
+
 #: Bump when the meaning of a cached payload changes.
 FORMAT_VERSION = 1
-RACY_SECONDS = 2.0
 
 
 def default_directory(env: dict[str, str] | None = None) -> Path:
@@ -51,20 +51,22 @@ class MeshCache:
         Raises OSError when the file cannot be read.
         """
         path = Path(path)
-        st = os.stat(path)
+        stamp = reads.stamp(path)
+        if stamp is None:
+            os.stat(path)  # raises the OSError that says why
         index_file = self._index / (hashlib.blake2b(str(path.resolve()).encode(), digest_size=16).hexdigest() + ".json")
-        stamp = [st.st_size, st.st_mtime_ns, st.st_ino, st.st_ctime_ns]
-        known = _read_json(index_file)
+        known = read_json(index_file)
         if (
-            known is not None
+            isinstance(known, dict)
             and known.get("stamp") == stamp
             and isinstance(known.get("digest"), str)
-            and max(st.st_mtime_ns, st.st_ctime_ns) < int(known.get("indexed_ns", 0)) - RACY_SECONDS * 1e9
+            and isinstance(known.get("indexed_ns"), int)
+            and reads.settled(stamp, known["indexed_ns"])
         ):
             return known["digest"], None
         data = path.read_bytes()
         digest = content_digest(data)
-        _write_json(index_file, {"stamp": stamp, "digest": digest, "indexed_ns": time.time_ns()})
+        write_json(index_file, {"stamp": stamp, "digest": digest, "indexed_ns": time.time_ns()})
         return digest, data
 
     @staticmethod
@@ -74,16 +76,16 @@ class MeshCache:
 
     # --- entries
     def get(self, key: str) -> dict[str, Any] | None:
-        payload = _read_json(self._entries / key[:2] / f"{key}.json")
+        payload = read_json(self._entries / key[:2] / f"{key}.json")
         if not isinstance(payload, dict) or payload.get("version") != FORMAT_VERSION or payload.get("key") != key:
             return None
         return payload
 
     def put(self, key: str, payload: dict[str, Any]) -> None:
-        _write_json(self._entries / key[:2] / f"{key}.json", {**payload, "version": FORMAT_VERSION, "key": key})
+        write_json(self._entries / key[:2] / f"{key}.json", {**payload, "version": FORMAT_VERSION, "key": key})
 
 
-def _read_json(path: Path) -> Any:
+def read_json(path: Path) -> Any:
     try:
         with open(path, "rb") as fh:
             return json.loads(fh.read())
@@ -91,7 +93,9 @@ def _read_json(path: Path) -> Any:
         return None
 
 
-def _write_json(path: Path, payload: dict[str, Any]) -> None:
+def write_json(path: Path, payload: dict[str, Any]) -> None:
+    import tempfile  # only writers pay for it (it pulls in shutil and random)
+
     try:
         path.parent.mkdir(parents=True, exist_ok=True)
         fd, tmp = tempfile.mkstemp(prefix=".tmp-", suffix=".json", dir=path.parent)

@@ -4,9 +4,10 @@ from __future__ import annotations
 
 import json
 import math
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from linkcheck.model import Finding
+if TYPE_CHECKING:
+    from linkcheck.model import Finding
 
 VERSION = 1
 
