@@ -56,18 +56,19 @@ def _rules(values: list[str] | None) -> tuple[str, ...]:
 
 
 def _cli_settings(args: argparse.Namespace) -> dict[str, Any]:
-    from linkcheck.rules import RULES
-
     cli: dict[str, Any] = {}
     if args.fail_on:
         cli["fail_on"] = args.fail_on
     for key in ("select", "ignore"):
         rules = _rules(getattr(args, key))
+        if not rules:
+            continue
+        from linkcheck.rules import RULES
+
         unknown = [r for r in rules if r not in RULES]
         if unknown:
             raise LinkcheckError(f"--{key}: unknown rule {', '.join(repr(u) for u in unknown)} (see the README's rule table)")
-        if rules:
-            cli[key] = rules
+        cli[key] = rules
     if args.density is not None:
         if not args.density > 0:
             raise LinkcheckError(f"--density: must be a positive number of kg/m³, got {args.density}")
@@ -135,7 +136,7 @@ def _fix_options(args: argparse.Namespace) -> Any:
 
 
 def _report(args: argparse.Namespace, results: list[Any], problems: list[str]) -> int:
-    from linkcheck.report.json import build_report, file_entry
+    from linkcheck.report.json import build_report
 
     out = sys.stdout
     changed = [r for r in results if r.changed]
@@ -149,13 +150,13 @@ def _report(args: argparse.Namespace, results: list[Any], problems: list[str]) -
 
             print(f"linkcheck: caution: {CAUTION}", file=sys.stderr)  # machine output stays parseable
     shown = [r.unwritten() for r in results] if args.diff else results  # nothing written: report the file on disk
-    entries = [file_entry(r, _display(r.path)) for r in shown]
+    entries = [r.report_entry(_display(r.path)) for r in shown]
     report = build_report(entries, changed=len(changed))
-    fatal = any(r.document.fatal for r in results)
-    for r in results:
-        for f in r.findings:
-            if f.rule == "xml-malformed" and f.severity == "error":
-                print(f"linkcheck: {_display(r.path)}:{f.line or 1}: {f.message}", file=sys.stderr)
+    fatal = any(r.fatal for r in results)
+    for e in entries:
+        for f in e["findings"]:
+            if f["rule"] == "xml-malformed" and f["severity"] == "error":
+                print(f"linkcheck: {e['path']}:{f['line'] or 1}: {f['message']}", file=sys.stderr)
     for message in problems:
         print(f"linkcheck: {message}", file=sys.stderr)
     color = _use_color(args.color, out)
@@ -187,7 +188,7 @@ def _report(args: argparse.Namespace, results: list[Any], problems: list[str]) -
 
 def _fails(result: Any, entry: dict[str, Any]) -> bool:
     """A file fails at its own fail-on level (its configuration, or the command line's)."""
-    level = FAIL_LEVELS[result.settings.fail_on if result.settings is not None else "warning"]
+    level = FAIL_LEVELS[result.fail_on]
     worst = min((RANK[f["severity"]] for f in entry["findings"]), default=99)
     return level >= 0 and worst <= level
 

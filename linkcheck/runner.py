@@ -16,7 +16,6 @@ from linkcheck.inertia import combine
 from linkcheck.model import Document, Finding, Joint, Link, Pose
 from linkcheck.settings import Settings
 
-DESCRIPTION_SUFFIXES = (".urdf", ".sdf", ".world")
 #: Per-link rules a fixed-joint group can clear: simulators lump the group into one body.
 GROUP_RULES = frozenset({"density-implausible", "com-offset", "com-outside-geometry", "inertia-mismatch"})
 
@@ -41,6 +40,19 @@ class FileResult:
     @property
     def changed(self) -> bool:
         return self.new_data is not None and self.new_data != self.document.data
+
+    @property
+    def fatal(self) -> bool:
+        return self.document.fatal
+
+    @property
+    def fail_on(self) -> str:
+        return self.settings.fail_on if self.settings is not None else "warning"
+
+    def report_entry(self, display_path: str) -> dict[str, Any]:
+        from linkcheck.report.json import file_entry
+
+        return file_entry(self, display_path)
 
     def unwritten(self) -> FileResult:
         """This result as the file on disk reads when the fix is only shown (--diff): its lines, its findings."""
@@ -341,17 +353,3 @@ def _rewrite(doc: Document, edits: dict[str, Any]) -> bytes:
     from linkcheck.formats.urdf_write import rewrite_urdf
 
     return rewrite_urdf(doc, edits)
-
-
-def expand_paths(paths: list[Path]) -> list[Path]:
-    """Files as given; folders searched for descriptions (sorted, hidden folders skipped)."""
-    out: list[Path] = []
-    for p in paths:
-        if p.is_dir():
-            found = [f for f in p.rglob("*") if f.is_file() and f.suffix.lower() in DESCRIPTION_SUFFIXES
-                     and not any(part.startswith(".") for part in f.relative_to(p).parts)]
-            out.extend(sorted(found))
-        else:
-            out.append(p)
-    seen: set[Path] = set()
-    return [p for p in out if not (p in seen or seen.add(p))]  # type: ignore[func-returns-value]

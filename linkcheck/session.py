@@ -1,26 +1,53 @@
-"""One run over many files: settings per file, shared mesh search and cache, mesh -> users."""
+"""One run over many files: settings per file, shared mesh search and caches, mesh -> users.
+
+The checking layers (and numpy, and the settings parser) are imported only when some file is
+not answered by the result cache, so re-checking unchanged files costs little more than
+starting the interpreter.
+"""
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+import time
 from pathlib import Path
 from typing import Any
 
 from linkcheck.errors import LinkcheckError
-from linkcheck.runner import FileResult, RunOptions, expand_paths, run_file
-from linkcheck.settings import Settings
+from linkcheck.paths import config_candidates, expand_paths
 
 
-@dataclass
+class StoredResult:
+    """A file's result from the result cache: what the reporters need; never a fix."""
+
+    changed = False
+    estimated = False
+
+    def __init__(self, path: Path, stored: dict[str, Any]) -> None:
+        self.path = path
+        self.entry: dict[str, Any] = stored["entry"]
+        self.fatal = bool(stored.get("fatal"))
+        self.fail_on: str = stored.get("fail_on", "warning")
+
+    def unwritten(self) -> StoredResult:
+        return self
+
+    def report_entry(self, display_path: str) -> dict[str, Any]:
+        return {"path": display_path, **self.entry}
+
+
 class Session:
-    cli: dict[str, Any] = field(default_factory=dict)
-    config: Path | None = None
-    no_cache: bool = False
-    fix: Any = None
-    _settings: dict[Path, Settings] = field(default_factory=dict)
-    _cache: Any = None
+    """Settings, search paths and caches shared by the files of one run."""
 
-    def settings_for(self, path: Path) -> Settings:
+    def __init__(self, cli: dict[str, Any] | None = None, config: Path | None = None, no_cache: bool = False,
+                 fix: Any = None) -> None:
+        self.cli = cli or {}
+        self.config = config
+        self.no_cache = no_cache
+        self.fix = fix
+        self._settings: dict[Path, Any] = {}
+        self._cache: Any = None
+        self._results: Any = None
+
+    def settings_for(self, path: Path) -> Any:
         folder = path.resolve().parent
         if folder not in self._settings:
             from linkcheck.config import load_settings
@@ -28,7 +55,7 @@ class Session:
             self._settings[folder] = load_settings(folder, self.config, self.cli)
         return self._settings[folder]
 
-    def search_for(self, settings: Settings) -> Any:
+    def search_for(self, settings: Any) -> Any:
         from linkcheck.geometry.resolve import SearchPaths
 
         return SearchPaths(package_paths={k: Path(v) for k, v in settings.package_paths.items()},
@@ -42,6 +69,16 @@ class Session:
 
             self._cache = MeshCache()
         return self._cache
+
+    def result_cache(self) -> Any:
+        """Only check runs reuse results: a fix must see the file as it is."""
+        if self.no_cache or self.fix is not None:
+            return None
+        if self._results is None:
+            from linkcheck.result_cache import ResultCache
+
+            self._results = ResultCache()
+        return self._results
 
     def run(self, paths: list[Path], mesh_suffixes: tuple[str, ...]) -> tuple[list[FileResult], list[str]]:
         """Check every description named or found; return results and one-line input problems."""
@@ -67,14 +104,47 @@ class Session:
                     continue
                 seen.add(key)
                 try:
-                    settings = self.settings_for(path)
-                    options = RunOptions(fix=self.fix, search=self.search_for(settings), cache=self.cache())
-                    results.append(run_file(path, settings, options))
+                    results.append(self.check(path))
                 except OSError as exc:
                     problems.append(f"{path}: cannot read: {exc.strerror or exc}")
         finally:
             progress.close()
         return results, problems
+
+    def check(self, path: Path) -> Any:
+        """One file's result: from the result cache when nothing it was computed from changed."""
+        store = self.result_cache()
+        if store is None:
+            return self._run(path)
+        try:
+            data = path.read_bytes()
+        except OSError:
+            return self._run(path)  # the reader reports it, as without the cache
+        key = store.key(path, data, self.cli, self._config_files(path))
+        stored = store.get(key) if key is not None else None
+        if stored is not None:
+            return StoredResult(path, stored)
+        from linkcheck.reads import recording
+
+        started = time.time_ns()
+        with recording() as reads:
+            result = self._run(path, data)
+        if key is not None:
+            store.put(key, reads, started, result.report_entry(str(path)), result.fatal, result.fail_on)
+        return result
+
+    def _config_files(self, path: Path) -> list[Path]:
+        """The configuration files the file's settings may come from (the nearest one that has a table wins)."""
+        if self.config is not None:
+            return [Path(self.config)]
+        return list(config_candidates(path.resolve().parent))
+
+    def _run(self, path: Path, data: bytes | None = None) -> Any:
+        from linkcheck.runner import RunOptions, run_file
+
+        settings = self.settings_for(path)
+        options = RunOptions(fix=self.fix, search=self.search_for(settings), cache=self.cache())
+        return run_file(path, settings, options, data)
 
     def _users_of(self, mesh: Path) -> list[Path]:
         """Descriptions in the mesh's repository that use it (none: the mesh is ignored silently)."""
@@ -85,3 +155,4 @@ class Session:
             return descriptions_using(mesh, find_repo_root(mesh), self.search_for(settings))
         except OSError as exc:
             raise LinkcheckError(f"{mesh}: cannot scan the repository for its users: {exc}") from exc
+

@@ -7,6 +7,7 @@ import re
 from pathlib import Path
 from typing import Any
 
+from linkcheck import reads
 from linkcheck.formats.xml import XmlError, parse_xml
 
 
@@ -24,6 +25,7 @@ def _model_dir_file(folder: Path) -> Path | None:
     """The SDF file of a model-database folder: model.config's best <sdf> entry (else model.sdf)."""
     config = folder / "model.config"
     if config.is_file():
+        reads.note(config)
         try:
             xml = parse_xml(config, config.read_bytes())
             entries = [(parse_version(e.get("version")) or (0, 0), _text(e)) for e in xml.root.iter("sdf")]
@@ -41,7 +43,7 @@ def _model_dir_file(folder: Path) -> Path | None:
 
 def _model_roots(search: Any) -> list[Path]:
     """``model://`` roots: configured model paths, then the simulators' environment variables."""
-    from linkcheck.geometry.resolve import MODEL_PATH_VARS
+    from linkcheck.paths import MODEL_PATH_VARS
 
     roots = [Path(p) for p in getattr(search, "model_paths", ()) or ()]
     env = getattr(search, "env", None)
@@ -59,7 +61,15 @@ def find_include(uri: str, base_dir: Path, search: Any = None) -> Path | None:
     GZ_SIM_RESOURCE_PATH / SDF_PATH / GAZEBO_MODEL_PATH; relative and ``file://`` URIs
     are relative to the including file. A folder means its model.config entry.
     """
-    uri = uri.strip()
+    found = _find_include(uri.strip(), base_dir, search)
+    if found is None:
+        reads.note_missing()
+    else:
+        reads.note(found)
+    return found
+
+
+def _find_include(uri: str, base_dir: Path, search: Any) -> Path | None:
     if uri.startswith("model://"):
         rest = uri[len("model://") :].lstrip("/")
         candidates = [root / rest for root in (base_dir, base_dir.parent, *_model_roots(search))]

@@ -14,8 +14,9 @@ from functools import lru_cache
 from pathlib import Path
 from urllib.parse import unquote
 
-#: Environment variables whose folders hold ``model://NAME`` models.
-MODEL_PATH_VARS = ("GZ_SIM_RESOURCE_PATH", "SDF_PATH", "IGN_GAZEBO_RESOURCE_PATH", "GAZEBO_MODEL_PATH")
+from linkcheck import reads
+from linkcheck.paths import MODEL_PATH_VARS
+
 #: Bounds of the folder walks: a description in a home folder must not trigger a disk scan.
 _MAX_DIRS = 4000
 _SKIP_DIRS = {"node_modules", "build", "install", "log", "__pycache__", "site-packages"}
@@ -56,7 +57,15 @@ class Resolution:
 
 def resolve_uri(uri: str, base_dir: Path, search: SearchPaths | None = None) -> Resolution:
     """Resolve ``uri`` as written in a description whose folder is ``base_dir``."""
-    search = search or SearchPaths()
+    found = _resolve(uri, base_dir, search or SearchPaths())
+    if found.path is None:
+        reads.note_missing()
+    else:
+        reads.note(found.path)
+    return found
+
+
+def _resolve(uri: str, base_dir: Path, search: SearchPaths) -> Resolution:
     uri = uri.strip()
     base_dir = Path(base_dir)
     low = uri.lower()

@@ -1,0 +1,69 @@
+"""The files a check read besides the description, so a stored result can be re-verified.
+
+Readers call :func:`note` for each file whose content shaped a result (a resolved mesh, an
+included model, a model.config) and :func:`note_missing` when a reference did not resolve: a
+file added later would change that result, so such a check is never reused. Outside
+:func:`recording` both do nothing, which keeps the readers free of cache plumbing.
+"""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Iterator
+from contextlib import contextmanager
+from pathlib import Path
+
+#: A file modified this close to being stamped may be rewritten again with the same stamp
+#: (coarse file-system clocks): only older stamps are trusted.
+RACY_SECONDS = 2.0
+
+
+def stamp(path: str | Path) -> list[int] | None:
+    """Size, mtime, inode and ctime: what changes when a file is rewritten or replaced."""
+    try:
+        st = os.stat(path)
+    except OSError:
+        return None
+    return [st.st_size, st.st_mtime_ns, st.st_ino, st.st_ctime_ns]
+
+
+def settled(found: list[int], at_ns: int) -> bool:
+    """Whether a stamp taken at ``at_ns`` can vouch for the content (see ``RACY_SECONDS``)."""
+    return max(found[1], found[3]) < at_ns - RACY_SECONDS * 1e9
+
+
+class Reads:
+    """Stamps of the files read, by absolute path; ``complete`` is False after a miss."""
+
+    def __init__(self) -> None:
+        self.stamps: dict[str, list[int]] = {}
+        self.complete = True
+
+
+_active: list[Reads] = []
+
+
+def note(path: str | Path) -> None:
+    if _active:
+        reads, key = _active[-1], os.path.abspath(path)
+        if key not in reads.stamps:
+            found = stamp(key)
+            if found is None:
+                reads.complete = False
+            else:
+                reads.stamps[key] = found
+
+
+def note_missing() -> None:
+    if _active:
+        _active[-1].complete = False
+
+
+@contextmanager
+def recording() -> Iterator[Reads]:
+    reads = Reads()
+    _active.append(reads)
+    try:
+        yield reads
+    finally:
+        _active.pop()

@@ -1,0 +1,85 @@
+"""Whole-file check results, reused while nothing they were computed from has changed.
+
+A pre-commit hook re-checks the same descriptions many times a day. The key holds the
+description's path and content hash, the command line's settings and the content of every
+configuration file that may apply, the working folder,
+the search-path environment and linkcheck's own version and source files; the entry lists
+every other file the check read (meshes, included models: see :mod:`linkcheck.reads`) with
+its stat stamp. While all of that holds, the stored report entry is the answer and no mesh
+is opened (numpy is not even imported). Not stored: a check that could not resolve a
+reference (adding the file must change the answer), a fix run, and a check whose inputs
+were modified within ``reads.RACY_SECONDS`` of it (a same-size rewrite could keep its stamp).
+Entries sit beside the mesh cache and share its atomic writes and silent failures.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import os
+import time
+from pathlib import Path
+from typing import Any
+
+from linkcheck import __version__
+from linkcheck.geometry.cache import content_digest, default_directory, read_json, write_json
+from linkcheck.paths import MODEL_PATH_VARS, PACKAGE_PATH_VARS
+from linkcheck.reads import Reads, settled, stamp
+
+#: Bump when the meaning of a stored entry changes.
+FORMAT_VERSION = 1
+_PACKAGE_DIR = Path(__file__).resolve().parent
+
+
+def code_stamp() -> str:
+    """linkcheck's version and the stamps of its source files: an edited checkout is a new linkcheck."""
+    parts = [__version__]
+    for folder, dirs, files in os.walk(_PACKAGE_DIR):
+        dirs[:] = sorted(d for d in dirs if d != "__pycache__")
+        for name in sorted(files):
+            if name.endswith(".py"):
+                parts.append(f"{name}:{stamp(os.path.join(folder, name))}")
+    return hashlib.blake2b("|".join(parts).encode(), digest_size=16).hexdigest()
+
+
+class ResultCache:
+    """Report entries by everything that shaped them; every cache failure is silent."""
+
+    def __init__(self, directory: Path | None = None) -> None:
+        base = Path(directory) if directory is not None else default_directory()
+        self._entries = base / f"results-v{FORMAT_VERSION}"
+        self._code = code_stamp()
+
+    def key(self, path: Path, data: bytes, cli: dict[str, Any], config_files: list[Path]) -> str | None:
+        """Everything a file's result is a function of, besides the files it reads (None: unreadable config)."""
+        try:
+            configs = [f"{f.resolve()}:{content_digest(f.read_bytes())}" for f in config_files]
+        except OSError:
+            return None  # the check reports it
+        env = [f"{v}={os.environ.get(v, '')}" for v in (*PACKAGE_PATH_VARS, *MODEL_PATH_VARS)]
+        text = "\n".join([str(FORMAT_VERSION), self._code, str(Path(path).resolve()), content_digest(data),
+                          repr(sorted(cli.items())), *configs, os.getcwd(), *env])
+        return hashlib.blake2b(text.encode(), digest_size=20).hexdigest()
+
+    def get(self, key: str) -> dict[str, Any] | None:
+        """The stored ``{"entry", "fatal", "fail_on"}`` when every file it read is as it was, else None."""
+        payload = read_json(self._file(key))
+        if not isinstance(payload, dict) or payload.get("key") != key or not isinstance(payload.get("entry"), dict):
+            return None
+        reads = payload.get("reads")
+        if not isinstance(reads, dict) or any(stamp(p) != s for p, s in reads.items()):
+            return None
+        return payload
+
+    def put(self, key: str, reads: Reads, started_ns: int, entry: dict[str, Any], fatal: bool, fail_on: str) -> None:
+        """Store a result computed from ``reads``, unless any of them changed around the check."""
+        if not reads.complete:
+            return
+        for path, noted in reads.stamps.items():
+            if stamp(path) != noted or not settled(noted, started_ns):
+                return
+        entry = {k: v for k, v in entry.items() if k != "path"}  # the path is shown relative to each run's folder
+        write_json(self._file(key), {"key": key, "reads": reads.stamps, "entry": entry, "fatal": fatal,
+                                     "fail_on": fail_on})
+
+    def _file(self, key: str) -> Path:
+        return self._entries / key[:2] / f"{key}.json"

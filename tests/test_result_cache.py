@@ -1,0 +1,203 @@
+"""The result cache: an unchanged file is answered from the store, any change is seen.
+
+Physics reference for the cube model: a solid cuboid of sides a, b, c and mass m has
+I_xx = m (b² + c²) / 12 about its centre (handbook formula, e.g. any rigid-body dynamics
+text's table of moments of inertia), so a cube of side a has I = m a² / 6 about each axis.
+The reference for every cached report is the same command run with ``--no-cache``.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+import trimesh
+
+from linkcheck import reads, result_cache
+from linkcheck.cli import main
+from linkcheck.config import clear_cache
+
+MASS = 8.0
+SIDE = 0.2
+URDF = """<robot name="crate_rig">
+  <link name="crate">
+    <inertial><mass value="{m}"/><inertia ixx="{i}" ixy="0" ixz="0" iyy="{i}" iyz="0" izz="{i}"/></inertial>
+    <collision><geometry><mesh filename="{mesh}"/></geometry></collision>
+  </link>
+</robot>
+"""
+
+
+def write_cube(path: Path, side: float) -> None:
+    """A binary STL cube centred on the origin (12 triangles, so every side gives the same file size)."""
+    path.write_bytes(trimesh.creation.box((side, side, side)).export(file_type="stl"))
+
+
+@pytest.fixture
+def crate(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> Path:
+    """A one-link crate whose stated tensor is the handbook cube's; the working folder is its folder."""
+    monkeypatch.chdir(tmp_path)
+    write_cube(tmp_path / "crate.stl", SIDE)
+    path = tmp_path / "crate.urdf"
+    path.write_text(URDF.format(m=MASS, i=MASS * SIDE**2 / 6, mesh="crate.stl"))
+    return path
+
+
+@pytest.fixture
+def settled(monkeypatch: pytest.MonkeyPatch) -> None:
+    """Files a test just wrote are brand new; let the caches trust their stamps anyway."""
+    monkeypatch.setattr(reads, "RACY_SECONDS", -1e9)
+
+
+def run(capsys: pytest.CaptureFixture[str], *args: str) -> tuple[int, str]:
+    """One command-line run, as a fresh process would see the configuration files."""
+    clear_cache()
+    code = main(["--format", "json", *args])
+    return code, capsys.readouterr().out
+
+
+def stored(cache: Path) -> list[Path]:
+    return sorted((cache / f"results-v{result_cache.FORMAT_VERSION}").rglob("*.json"))
+
+
+def rules(report: str) -> set[tuple[str, str]]:
+    return {(f["rule"], f["severity"]) for e in json.loads(report)["files"] for f in e["findings"]}
+
+
+def test_unchanged_file_is_answered_from_the_store(crate: Path, settled: None, private_cache: Path,
+                                                   capsys: pytest.CaptureFixture[str], monkeypatch: pytest.MonkeyPatch) -> None:
+    reference = run(capsys, "--no-cache", str(crate))
+    assert run(capsys, str(crate)) == reference  # computed, and stored
+    (entry,) = stored(private_cache)
+    assert str(crate.parent / "crate.stl") in json.loads(entry.read_bytes())["reads"]
+    from linkcheck import runner
+
+    monkeypatch.setattr(runner, "run_file", lambda *a, **k: pytest.fail("a stored result was recomputed"))
+    assert run(capsys, str(crate)) == reference
+
+
+@pytest.mark.parametrize("fmt", ["text", "json", "sarif", "github"])
+def test_stored_report_reads_like_a_fresh_one(fmt: str, tmp_path: Path, settled: None, monkeypatch: pytest.MonkeyPatch,
+                                              capsys: pytest.CaptureFixture[str]) -> None:
+    # the invented demo model, with findings of every severity; both runs from the same folder
+    demo = Path(__file__).resolve().parents[1] / "fixtures" / "demo" / "harvester.urdf"
+    monkeypatch.chdir(demo.parent)
+    outputs = []
+    for extra in (["--no-cache"], [], []):
+        code = main(["--format", fmt, "--color", "never", *extra, str(demo)])
+        outputs.append((code, capsys.readouterr().out))
+    assert outputs[0][0] == 1 and outputs[0][1]
+    assert outputs[1] == outputs[0] and outputs[2] == outputs[0]
+
+
+def test_mesh_rewritten_to_the_same_size_is_seen(crate: Path, settled: None, capsys: pytest.CaptureFixture[str]) -> None:
+    code, before = run(capsys, str(crate))
+    assert code == 0 and not {r for r, sev in rules(before) if sev != "info"}
+    size = (crate.parent / "crate.stl").stat().st_size
+    write_cube(crate.parent / "crate.stl", 2 * SIDE)  # 4x the moments: stated/estimate = 1/4, outside [1/3, 3]
+    assert (crate.parent / "crate.stl").stat().st_size == size
+    code, after = run(capsys, str(crate))
+    assert code == 1 and ("inertia-mismatch", "warning") in rules(after)
+    assert (code, after) == run(capsys, "--no-cache", str(crate))
+
+
+def test_description_and_configuration_changes_are_seen(crate: Path, settled: None, capsys: pytest.CaptureFixture[str]) -> None:
+    crate.write_text(URDF.format(m=MASS, i=MASS * SIDE**2 / 6 / 4, mesh="crate.stl"))  # stated 1/4 of the cube's
+    assert ("inertia-mismatch", "warning") in rules(run(capsys, str(crate))[1])
+    (crate.parent / "linkcheck.toml").write_text('ignore = ["inertia-mismatch"]\n')
+    code, out = run(capsys, str(crate))
+    assert code == 0 and "inertia-mismatch" not in {r for r, _ in rules(out)}
+    (crate.parent / "linkcheck.toml").unlink()
+    assert ("inertia-mismatch", "warning") in rules(run(capsys, str(crate))[1])
+    assert ("inertia-mismatch", "warning") not in rules(run(capsys, "--ignore", "inertia-mismatch", str(crate))[1])
+
+
+def test_unresolved_mesh_is_never_stored(tmp_path: Path, settled: None, private_cache: Path,
+                                         monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]) -> None:
+    monkeypatch.chdir(tmp_path)
+    path = tmp_path / "crate.urdf"
+    path.write_text(URDF.format(m=MASS, i=MASS * SIDE**2 / 6, mesh="meshes/crate.stl"))
+    assert ("mesh-unavailable", "error") in rules(run(capsys, str(path))[1])
+    assert stored(private_cache) == []
+    (tmp_path / "meshes").mkdir()
+    write_cube(tmp_path / "meshes" / "crate.stl", SIDE)  # the file the error asked for: now it is found
+    assert run(capsys, str(path))[0] == 0
+
+
+def test_fresh_inputs_are_not_trusted(crate: Path, private_cache: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    # without the `settled` fixture the mesh was written a moment ago: its stamp could repeat
+    # after a same-size rewrite on a coarse file-system clock, so nothing is stored yet
+    run(capsys, str(crate))
+    assert stored(private_cache) == []
+
+
+def test_no_cache_and_fixes_neither_read_nor_store(crate: Path, settled: None, private_cache: Path,
+                                                   capsys: pytest.CaptureFixture[str]) -> None:
+    crate.write_text(URDF.format(m=MASS, i=1.0, mesh="crate.stl"))  # far beyond any 8 kg body inside the cube
+    run(capsys, "--no-cache", str(crate))
+    run(capsys, "--diff", str(crate))
+    assert stored(private_cache) == []
+    assert ("inertia-exceeds-geometry", "error") in rules(run(capsys, str(crate))[1])
+    assert len(stored(private_cache)) == 1
+    assert main(["--fix", str(crate)]) == 1  # a fix judges the file itself, never the stored result
+    capsys.readouterr()
+    assert len(stored(private_cache)) == 1
+    (link,) = json.loads(run(capsys, str(crate))[1])["files"][0]["links"]
+    for k in range(3):
+        assert link["stated"]["inertia"][k][k] == pytest.approx(MASS * SIDE**2 / 6, rel=1e-4)
+
+
+def test_corrupt_or_foreign_entry_is_ignored(crate: Path, settled: None, private_cache: Path,
+                                             capsys: pytest.CaptureFixture[str]) -> None:
+    reference = run(capsys, str(crate))
+    (entry,) = stored(private_cache)
+    good = json.loads(entry.read_bytes())
+    for garbage in (b"{not json", b"[]", json.dumps({**good, "key": "another"}).encode(),
+                    json.dumps({**good, "entry": None}).encode()):
+        entry.write_bytes(garbage)
+        assert run(capsys, str(crate)) == reference
+        assert json.loads(entry.read_bytes()) == good  # rewritten whole
+
+
+def test_a_mesh_shared_by_two_descriptions_is_recorded_for_both(crate: Path, settled: None,
+                                                                capsys: pytest.CaptureFixture[str]) -> None:
+    twin = crate.parent / "twin.urdf"
+    twin.write_text(crate.read_text().replace("crate_rig", "twin_rig"))
+    code, out = run(capsys, str(crate), str(twin))
+    assert code == 0
+    write_cube(crate.parent / "crate.stl", 2 * SIDE)
+    report = json.loads(run(capsys, str(crate), str(twin))[1])
+    for entry in report["files"]:  # the second file's mesh came from the in-process memo, and still counts
+        assert ("inertia-mismatch", "warning") in {(f["rule"], f["severity"]) for f in entry["findings"]}, entry["path"]
+
+
+def test_code_stamp_follows_the_source_files(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    (tmp_path / "a.py").write_text("x = 1\n")
+    monkeypatch.setattr(result_cache, "_PACKAGE_DIR", tmp_path)
+    first = result_cache.code_stamp()
+    assert result_cache.code_stamp() == first
+    (tmp_path / "a.py").write_text("x = 22\n")  # an edited checkout is another linkcheck
+    assert result_cache.code_stamp() != first
+
+
+PROBE = """
+import runpy, sys
+sys.argv = ["linkcheck", "--format", "json", sys.argv[1]]
+try:
+    runpy.run_module("linkcheck", run_name="__main__")
+except SystemExit as exc:
+    code = exc.code
+print("loaded:" + ",".join(m for m in ("numpy", "lxml", "trimesh", "linkcheck.runner") if m in sys.modules), file=sys.stderr)
+"""
+
+
+def test_stored_answer_needs_no_numpy(crate: Path, settled: None, capsys: pytest.CaptureFixture[str]) -> None:
+    reference = run(capsys, str(crate))
+    p = subprocess.run([sys.executable, "-c", PROBE, str(crate)], cwd=crate.parent, capture_output=True, text=True,
+                       timeout=120, env=os.environ.copy())
+    assert p.stdout == reference[1]
+    assert p.stderr.strip().splitlines()[-1] == "loaded:"
