@@ -78,3 +78,55 @@ def test_up_axis_explains_a_com_off_the_mesh(tmp_path, up_axis, noted):
     rules = [f.rule for f in found]
     assert "com-outside-geometry" in rules
     assert ("geometry-note" in rules) is noted
+
+
+# ---- the reach bound: every vertex is read only when the stated moments fall between the bounds
+
+def _shapes() -> list[trimesh.Trimesh]:
+    """General-purpose reference shapes (trimesh.creation), off-centre so the bound is not trivial."""
+    shapes = [trimesh.creation.box((0.3, 0.1, 0.2)), trimesh.creation.cylinder(0.05, 0.4, sections=64),
+              trimesh.creation.icosphere(subdivisions=3, radius=0.12), trimesh.creation.annulus(0.05, 0.1, 0.05, sections=48)]
+    for k, mesh in enumerate(shapes):
+        mesh.apply_translation((0.1 * k, -0.05 * k, 0.02))
+    return shapes
+
+
+def test_reach_bounds_every_vertex_from_above(tmp_path):
+    from linkcheck.geometry.mesh import mesh_estimate
+    from linkcheck.geometry.solid import union
+    from linkcheck.model import Pose
+    from scipy.spatial.transform import Rotation
+
+    rng = np.random.default_rng(7)
+    solids, vertices = [], []
+    for k, mesh in enumerate(_shapes()):
+        mesh.export(tmp_path / f"s{k}.stl")
+        solid = mesh_estimate(f"s{k}.stl", tmp_path).solid
+        # a single body about its bounding-box centre: the bound is the exact farthest vertex
+        centre = (mesh.vertices.min(axis=0) + mesh.vertices.max(axis=0)) / 2
+        exact = np.linalg.norm(mesh.vertices - centre, axis=1).max()  # brute force over trimesh's vertices
+        assert solid.reach(centre) == pytest.approx(exact, rel=1e-6)  # STL stores float32
+        pose = Pose(Rotation.random(random_state=k).as_matrix(), rng.normal(0, 0.2, 3))
+        solids.append(solid.transformed(pose))
+        vertices.append(pose.apply(mesh.vertices))
+    together, every = union(solids), np.vstack(vertices)
+    for c in rng.normal(0, 0.3, (50, 3)):
+        assert together.reach(c) >= np.linalg.norm(every - c, axis=1).max() * (1 - 1e-6)
+
+
+def test_far_beyond_the_bound_is_confirmed_without_reading_vertices(tmp_path, monkeypatch):
+    from linkcheck.geometry import mesh_io
+
+    monkeypatch.setattr(mesh_io, "mesh_vertices", lambda *a, **k: pytest.fail("the full vertex set was read"))
+    # trace/2 <= m R^2 for any body inside a sphere of radius R (REFERENCES.md bound); 10x beyond it
+    m, r = 4.0, 0.1
+    ball = trimesh.creation.icosphere(subdivisions=4, radius=r)
+    ball.export(tmp_path / "ball.stl")
+    moment = 10 * m * r * r * 2 / 3
+    urdf = (f'<robot name="r"><link name="ball"><inertial><mass value="{m}"/>'
+            f'<inertia ixx="{moment}" ixy="0" ixz="0" iyy="{moment}" iyz="0" izz="{moment}"/></inertial>'
+            '<collision><origin rpy="0.3 0.2 0.1" xyz="0.05 0 0"/><geometry><mesh filename="ball.stl"/></geometry></collision>'
+            '</link></robot>')
+    _, found = check_document(read_urdf(tmp_path / "r.urdf", urdf.encode()), Settings())
+    (exceeds,) = [f for f in found if f.rule == "inertia-exceeds-geometry"]
+    assert exceeds.severity == "error"

@@ -93,12 +93,17 @@ def inertia_exceeds_geometry(ctx: LinkContext) -> Iterator[Finding]:
         return
     from linkcheck.geometry.hull import max_distance
 
-    lo, hi = e.points.min(axis=0), e.points.max(axis=0)
+    centre = (e.points.min(axis=0) + e.points.max(axis=0)) / 2
     half_trace = float(np.trace(s.inertia)) / 2
-    radius = max_distance(e.points, (lo + hi) / 2)
-    if half_trace > ctx.settings.exceeds_geometry_factor * s.mass * radius**2 and e.approximate:
-        radius = max_distance(e.exact_points(), (lo + hi) / 2)  # the cheap points may lie inside
-    bound = ctx.settings.exceeds_geometry_factor * s.mass * radius**2
+    factor = ctx.settings.exceeds_geometry_factor * s.mass
+    radius = max_distance(e.points, centre)
+    if half_trace > factor * radius**2 and e.approximate:
+        # the cheap points may lie inside the body; its enclosing spheres bound the reach from
+        # above, so every vertex is read only when the stated moments fall between the two bounds
+        radius = e.reach(centre)
+        if half_trace <= factor * radius**2:
+            radius = max_distance(e.exact_points(), centre)
+    bound = factor * radius**2
     if half_trace <= bound:
         return
     yield _finding(

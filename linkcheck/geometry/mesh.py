@@ -27,7 +27,7 @@ import numpy as np
 from linkcheck.geometry.cache import MeshCache
 from linkcheck.geometry.mesh_io import LOADERS, UP_AXIS_RE, MeshError, load_triangles
 from linkcheck.geometry.resolve import Resolution, SearchPaths, resolve_uri
-from linkcheck.geometry.solid import Solid
+from linkcheck.geometry.solid import Solid, enclosing_sphere
 from linkcheck.inertia import MassProperties
 from linkcheck.model import Finding
 from linkcheck.settings import DEFAULT
@@ -172,7 +172,7 @@ def _mesh_estimate(
     findings = [*notes, *(_with_uri(f, uri, path) for f in result.findings)]
     if result.props is None or result.points is None:
         return MeshEstimate(None, tuple(findings), False, path, triangles=result.triangles, cached=cached)
-    solid = Solid(result.props, result.points)
+    solid = Solid(result.props, result.points, spheres=enclosing_sphere(result.points))
     units = _units_finding(uri, result.points, scale, max_extent, min_extent)
     if units is not None:
         findings.append(units)
