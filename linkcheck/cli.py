@@ -46,7 +46,7 @@ def build_parser() -> argparse.ArgumentParser:
     where = p.add_argument_group("finding files")
     where.add_argument("--config", type=Path, metavar="FILE", help="use this linkcheck.toml or pyproject.toml instead of searching")
     where.add_argument("--package-path", action="append", default=[], metavar="NAME=DIR", help="where package://NAME/ points (repeatable)")
-    where.add_argument("--no-cache", action="store_true", help="do not read or write the mesh cache")
+    where.add_argument("--no-cache", action="store_true", help="do not read or write the caches (mesh results, whole-file results)")
     p.add_argument("--version", action="version", version=f"linkcheck {__version__}")
     return p
 

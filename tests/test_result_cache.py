@@ -18,6 +18,7 @@ import pytest
 import trimesh
 
 from linkcheck import reads, result_cache
+from linkcheck.geometry import resolve
 from linkcheck.cli import main
 from linkcheck.config import clear_cache
 
@@ -54,8 +55,9 @@ def settled(monkeypatch: pytest.MonkeyPatch) -> None:
 
 
 def run(capsys: pytest.CaptureFixture[str], *args: str) -> tuple[int, str]:
-    """One command-line run, as a fresh process would see the configuration files."""
+    """One command-line run, as a fresh process would see the configuration files and packages."""
     clear_cache()
+    resolve._find_packages.cache_clear()
     code = main(["--format", "json", *args])
     return code, capsys.readouterr().out
 
@@ -201,3 +203,23 @@ def test_stored_answer_needs_no_numpy(crate: Path, settled: None, capsys: pytest
                        timeout=120, env=os.environ.copy())
     assert p.stdout == reference[1]
     assert p.stderr.strip().splitlines()[-1] == "loaded:"
+
+
+def test_renaming_the_package_is_seen(tmp_path: Path, settled: None, monkeypatch: pytest.MonkeyPatch,
+                                      capsys: pytest.CaptureFixture[str]) -> None:
+    # REP 127 / package.xml format (ROS, from memory): <name> is the package's name that package:// URIs use
+    pkg = tmp_path / "crate_description"
+    (pkg / "meshes").mkdir(parents=True)
+    (pkg / "package.xml").write_text("<package><name>crate_description</name></package>\n")
+    write_cube(pkg / "meshes" / "crate.stl", SIDE)
+    (pkg / "urdf").mkdir()
+    path = pkg / "urdf" / "crate.urdf"
+    path.write_text(URDF.format(m=MASS, i=MASS * SIDE**2 / 6, mesh="package://crate_description/meshes/crate.stl"))
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / ".git").mkdir()  # the repository root bounds the package search
+    before = run(capsys, str(path))
+    assert before[0] == 0 and "geometry-note" not in before[1]
+    (pkg / "package.xml").write_text("<package><name>pallet_description</name></package>\n")
+    after = run(capsys, str(path))
+    assert "geometry-note" in after[1]  # now found only by the folder's name, which an info says
+    assert after == run(capsys, "--no-cache", str(path))

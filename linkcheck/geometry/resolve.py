@@ -128,6 +128,8 @@ def _resolve_package(uri: str, name: str, sub: str, base_dir: Path, search: Sear
         seen.add(candidate)
         tried.append(f"{candidate} ({how})")
         if candidate.is_file():
+            if "package.xml" in how:
+                reads.note(folder / "package.xml")  # renaming the package must change the answer
             return candidate
         misses.append(candidate)
         return None
