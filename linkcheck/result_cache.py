@@ -1,22 +1,20 @@
 """Whole-file check results, reused while nothing they were computed from has changed.
 
 A pre-commit hook re-checks the same descriptions many times a day. The key holds the
-description's path and content hash, the command line's settings and the content of every
-configuration file that may apply, the working folder,
-the search-path environment and linkcheck's own version and source files; the entry lists
-every other file the check read (meshes, included models: see :mod:`linkcheck.reads`) with
-its stat stamp. While all of that holds, the stored report entry is the answer and no mesh
-is opened (numpy is not even imported). Not stored: a check that could not resolve a
+description's path and content hash, the command line's settings, the content of every
+configuration file that may apply, the working folder, the search-path environment and
+linkcheck's own version and source files; the entry lists every other file the check read
+(meshes, included models, the package.xml that resolved a URI: see :mod:`linkcheck.reads`)
+with its stat stamp. While all of that holds, the stored report entry is the answer and no
+mesh is opened (numpy is not even imported). Not stored: a check that could not resolve a
 reference (adding the file must change the answer), a fix run, and a check whose inputs
 were modified within ``reads.RACY_SECONDS`` of it (a same-size rewrite could keep its stamp).
-Entries sit beside the mesh cache and share its atomic writes and silent failures.
-"""
+Entries sit beside the mesh cache and share its atomic writes and silent failures."""
 
 from __future__ import annotations
 
 import hashlib
 import os
-import time
 from pathlib import Path
 from typing import Any
 
