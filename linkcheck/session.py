@@ -109,6 +109,10 @@ class Session:
                     problems.append(f"{path}: cannot read: {exc.strerror or exc}")
         finally:
             progress.close()
+        if self._cache is not None or self._results is not None:
+            from linkcheck.geometry.cache import default_directory, prune
+
+            prune(default_directory())
         return results, problems
 
     def check(self, path: Path) -> Any:

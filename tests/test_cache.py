@@ -170,3 +170,23 @@ def test_default_directory_follows_xdg() -> None:
     assert default_directory({"XDG_CACHE_HOME": "/x/cache"}) == Path("/x/cache/linkcheck")
     assert default_directory({}) == Path(os.path.expanduser("~")) / ".cache" / "linkcheck"
     assert default_directory({"LINKCHECK_CACHE_DIR": "/y"}) == Path("/y")
+
+
+def test_prune_deletes_only_old_cache_files_and_at_most_daily(tmp_path: Path) -> None:
+    from linkcheck.geometry.cache import PRUNE_AFTER_DAYS, prune
+
+    now = 2_000_000_000.0
+    old, fresh = now - (PRUNE_AFTER_DAYS + 1) * 86400, now - 86400
+    files = {}
+    for rel, when in (("meshes-v1/ab/old.json", old), ("results-v1/cd/new.json", fresh), ("stat-v0/x.json", old),
+                      ("notes/keep.txt", old)):  # not one of linkcheck's *-vN folders: never touched
+        path = tmp_path / rel
+        path.parent.mkdir(parents=True, exist_ok=True)
+        path.write_text("{}")
+        os.utime(path, (when, when))
+        files[rel] = path
+    assert prune(tmp_path, now) == 2
+    assert [rel for rel, p in files.items() if p.exists()] == ["results-v1/cd/new.json", "notes/keep.txt"]
+    os.utime(files["results-v1/cd/new.json"], (old, old))
+    assert prune(tmp_path, now + 3600) == 0  # pruned an hour ago: not walked again
+    assert prune(tmp_path, now + 2 * 86400) == 1

@@ -32,6 +32,47 @@ def default_directory(env: dict[str, str] | None = None) -> Path:
     return Path(base) / "linkcheck"
 
 
+#: Cache files not rewritten for this long are deleted (a hot entry is merely recomputed once).
+PRUNE_AFTER_DAYS = 60
+_PRUNE_EVERY_SECONDS = 86400.0
+
+
+def prune(directory: Path, now: float | None = None) -> int:
+    """Delete linkcheck's cache files older than ``PRUNE_AFTER_DAYS``, at most once a day; how many went.
+
+    Keeps the folder from growing forever (every edit of a description stores a new result).
+    Only files inside linkcheck's own ``*-vN`` folders are touched; errors are silent.
+    """
+    now = time.time() if now is None else now
+    marker = Path(directory) / ".pruned"
+    try:
+        if now - marker.stat().st_mtime < _PRUNE_EVERY_SECONDS:
+            return 0
+    except FileNotFoundError:
+        pass
+    except OSError:
+        return 0
+    try:
+        marker.parent.mkdir(parents=True, exist_ok=True)
+        marker.touch()
+        os.utime(marker, (now, now))
+        folders = [d for d in Path(directory).iterdir() if d.is_dir() and d.name.rpartition("-v")[2].isdigit()]
+    except OSError:
+        return 0
+    cutoff, removed = now - PRUNE_AFTER_DAYS * 86400.0, 0
+    for folder in folders:
+        for root, _, files in os.walk(folder):
+            for name in files:
+                path = os.path.join(root, name)
+                try:
+                    if os.stat(path).st_mtime < cutoff:
+                        os.unlink(path)
+                        removed += 1
+                except OSError:
+                    pass
+    return removed
+
+
 def content_digest(data: bytes) -> str:
     return hashlib.sha1(data).hexdigest()  # fastest here (SHA-NI); collisions are not a threat model for a cache
 
