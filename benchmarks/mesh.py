@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import argparse
 import os
+import shutil
 import statistics
 import subprocess
 import sys
@@ -140,6 +141,8 @@ def main(argv: list[str] | None = None) -> int:
         print(make_model(args.make)[1])
         return 0
     folder = args.keep or Path(tempfile.mkdtemp(prefix="linkcheck-bench-"))
+    for old in folder.glob("cache*"):  # a kept folder from an earlier run: every run starts cold
+        shutil.rmtree(old)
     # built in a child process: a parent that grew large would inflate every child's peak RSS
     made = subprocess.run([sys.executable, __file__, "--make", str(folder)], check=True, capture_output=True, text=True)
     urdf, triangles = folder / "bench.urdf", int(made.stdout.split()[-1])
