@@ -18,6 +18,7 @@ from typing import Any
 
 from linkcheck.errors import ConfigError
 from linkcheck.paths import config_candidates
+from linkcheck.severity import FAIL_ON, SEVERITIES
 from linkcheck.rules import RULES, suggest
 from linkcheck.settings import DEFAULT, LinkOverride, LinkSettings, Settings
 
@@ -26,8 +27,6 @@ if sys.version_info >= (3, 11):
 else:  # pragma: no cover - exercised on 3.10 only
     import tomli as tomllib
 
-FAIL_ON = ("error", "warning", "info", "never")
-LEVELS = ("error", "warning", "info")
 GEOMETRY = ("collision", "visual")
 
 #: Threshold keys: kebab key -> (Settings field, lower bound, bound inclusive, upper bound or None).
@@ -256,7 +255,7 @@ def _unknown_key(key: str, known: tuple[str, ...]) -> str:
 def _severity_table(value: Any, key: str, where: _Where) -> dict[str, str]:
     if not isinstance(value, dict):
         raise where.error(key, f"expected a table of rule = level, got {_show(value)}")
-    return {_rule_name(r, key, where): _choice(level, f"{key}.{r}", where, LEVELS) for r, level in value.items()}
+    return {_rule_name(r, key, where): _choice(level, f"{key}.{r}", where, SEVERITIES) for r, level in value.items()}
 
 
 def _density_range(value: Any, key: str, where: _Where) -> tuple[float, float]:

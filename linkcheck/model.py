@@ -15,7 +15,6 @@ import numpy as np
 from linkcheck.inertia import MassProperties, rotate_tensor
 
 Severity = Literal["error", "warning", "info"]
-SEVERITIES: tuple[Severity, ...] = ("error", "warning", "info")
 
 #: Shapes that carry volume, and those that never do (skipped with an info finding).
 SOLID_SHAPES = ("box", "cylinder", "sphere", "capsule", "ellipsoid", "cone", "mesh")

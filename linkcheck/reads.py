@@ -1,8 +1,10 @@
 """The files a check read besides the description, so a stored result can be re-verified.
 
-Readers call :func:`note` for each file whose content shaped a result (a resolved mesh, an
-included model, a model.config) and :func:`note_missing` when a reference did not resolve: a
-file added later would change that result, so such a check is never reused. Outside
+Readers call :func:`note` for each file whose content shaped a result (a resolved mesh and
+the buffers of a .gltf, an included model, a model.config, the package.xml that resolved a URI)
+and :func:`note_incomplete` when the result hangs on something no stamp records: a reference
+that did not resolve (a file added later changes the answer) or a mesh that failed to load
+(perhaps for want of an optional package). Such a check is never reused. Outside
 :func:`recording` both do nothing, which keeps the readers free of cache plumbing.
 """
 
@@ -54,7 +56,7 @@ def note(path: str | Path) -> None:
                 reads.stamps[key] = found
 
 
-def note_missing() -> None:
+def note_incomplete() -> None:
     if _active:
         _active[-1].complete = False
 

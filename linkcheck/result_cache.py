@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import hashlib
 import os
+import sys
 from pathlib import Path
 from typing import Any
 
@@ -22,20 +23,34 @@ from linkcheck import __version__
 from linkcheck.geometry.cache import content_digest, default_directory, read_json, write_json
 from linkcheck.paths import MODEL_PATH_VARS, PACKAGE_PATH_VARS
 from linkcheck.reads import Reads, settled, stamp
+from linkcheck.severity import FAIL_ON, SEVERITIES
 
 #: Bump when the meaning of a stored entry changes.
 FORMAT_VERSION = 1
 _PACKAGE_DIR = Path(__file__).resolve().parent
 
 
+#: Libraries whose upgrade can change a result (mesh readers, numerics), stamped by their package file.
+DEPENDENCIES = ("numpy", "lxml", "trimesh", "scipy", "collada")
+
+
 def code_stamp() -> str:
-    """linkcheck's version and the stamps of its source files: an edited checkout is a new linkcheck."""
-    parts = [__version__]
+    """linkcheck's version and source files, Python's and the libraries' versions: an edited
+    checkout, an upgrade or a newly installed optional reader makes a new key."""
+    from importlib.util import find_spec
+
+    parts = [__version__, sys.version]
     for folder, dirs, files in os.walk(_PACKAGE_DIR):
         dirs[:] = sorted(d for d in dirs if d != "__pycache__")
         for name in sorted(files):
             if name.endswith(".py"):
                 parts.append(f"{name}:{stamp(os.path.join(folder, name))}")
+    for name in DEPENDENCIES:
+        try:
+            spec = find_spec(name)  # finds the package without importing it
+        except (ImportError, ValueError):
+            spec = None
+        parts.append(f"{name}:{stamp(spec.origin) if spec is not None and spec.origin else None}")
     return hashlib.blake2b("|".join(parts).encode(), digest_size=16).hexdigest()
 
 
@@ -54,14 +69,16 @@ class ResultCache:
         except OSError:
             return None  # the check reports it
         env = [f"{v}={os.environ.get(v, '')}" for v in (*PACKAGE_PATH_VARS, *MODEL_PATH_VARS)]
-        text = "\n".join([str(FORMAT_VERSION), self._code, str(Path(path).resolve()), content_digest(data),
-                          repr(sorted(cli.items())), *configs, os.getcwd(), *env])
+        # the path as given, with the working folder: a symlinked copy finds its own meshes, and
+        # messages quote paths the way the user wrote them
+        text = "\n".join([str(FORMAT_VERSION), self._code, str(path), os.getcwd(), content_digest(data),
+                          repr(sorted(cli.items())), *configs, *env])
         return hashlib.blake2b(text.encode(), digest_size=20).hexdigest()
 
     def get(self, key: str) -> dict[str, Any] | None:
         """The stored ``{"entry", "fatal", "fail_on"}`` when every file it read is as it was, else None."""
         payload = read_json(self._file(key))
-        if not isinstance(payload, dict) or payload.get("key") != key or not isinstance(payload.get("entry"), dict):
+        if not isinstance(payload, dict) or payload.get("key") != key or not _well_formed(payload):
             return None
         reads = payload.get("reads")
         if not isinstance(reads, dict) or any(stamp(p) != s for p, s in reads.items()):
@@ -81,3 +98,18 @@ class ResultCache:
 
     def _file(self, key: str) -> Path:
         return self._entries / key[:2] / f"{key}.json"
+
+
+def _well_formed(payload: dict[str, Any]) -> bool:
+    """What the reporters and exit codes rely on; anything else is a foreign or damaged entry."""
+    entry = payload.get("entry")
+    if not isinstance(entry, dict) or payload.get("fail_on") not in FAIL_ON or not isinstance(payload.get("fatal"), bool):
+        return False
+    findings, links = entry.get("findings"), entry.get("links")
+    if not isinstance(entry.get("format"), str) or not isinstance(links, list) or not isinstance(findings, list):
+        return False
+    return all(isinstance(k, dict) for k in links) and all(
+        isinstance(f, dict) and isinstance(f.get("rule"), str) and f.get("severity") in SEVERITIES
+        and isinstance(f.get("message"), str) and (f.get("line") is None or type(f.get("line")) is int)
+        and (f.get("link") is None or isinstance(f.get("link"), str))
+        for f in findings)

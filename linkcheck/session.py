@@ -7,6 +7,7 @@ starting the interpreter.
 
 from __future__ import annotations
 
+import os
 import time
 from pathlib import Path
 from typing import Any
@@ -99,7 +100,7 @@ class Session:
         try:
             for path in files:
                 progress.step(str(path))
-                key = path.resolve()
+                key = Path(os.path.abspath(path))  # not resolved: a symlinked copy finds meshes beside itself
                 if key in seen:
                     continue
                 seen.add(key)

@@ -190,3 +190,17 @@ def test_prune_deletes_only_old_cache_files_and_at_most_daily(tmp_path: Path) ->
     os.utime(files["results-v1/cd/new.json"], (old, old))
     assert prune(tmp_path, now + 3600) == 0  # pruned an hour ago: not walked again
     assert prune(tmp_path, now + 2 * 86400) == 1
+
+
+def test_semantically_damaged_entry_is_ignored_and_rebuilt(tmp_path: Path) -> None:
+    path = write_stl(tmp_path / "b.stl", trimesh.creation.box((1, 2, 3)))
+    cache = MeshCache(tmp_path / "cache")
+    run(path, cache)
+    (entry,) = entries(cache)
+    good = json.loads(entry.read_bytes())
+    for damaged in ({**good, "findings": [["mesh-inside-out", "bogus", "x", {}]]}, {**good, "triangles": 1e309},
+                    {**good, "findings": "oops"}):
+        entry.write_text(json.dumps(damaged).replace("1e+309", "Infinity"))
+        again = run(path, cache)
+        assert not again.cached and again.solid.volume == pytest.approx(6.0)  # box 1 x 2 x 3 m: V = 6 m^3
+        assert run(path, cache).cached

@@ -158,8 +158,11 @@ def test_corrupt_or_foreign_entry_is_ignored(crate: Path, settled: None, private
     reference = run(capsys, str(crate))
     (entry,) = stored(private_cache)
     good = json.loads(entry.read_bytes())
-    for garbage in (b"{not json", b"[]", json.dumps({**good, "key": "another"}).encode(),
-                    json.dumps({**good, "entry": None}).encode()):
+    damaged = [{**good, "key": "another"}, {**good, "entry": None}, {**good, "fail_on": "bogus"},
+               {**good, "entry": {**good["entry"], "findings": "oops"}},
+               {**good, "entry": {k: v for k, v in good["entry"].items() if k != "findings"}},
+               {**good, "entry": {**good["entry"], "findings": [{"rule": "x", "severity": "bogus", "message": "", "line": 1}]}}]
+    for garbage in (b"{not json", b"[]", *(json.dumps(d).encode() for d in damaged)):
         entry.write_bytes(garbage)
         assert run(capsys, str(crate)) == reference
         assert json.loads(entry.read_bytes()) == good  # rewritten whole
@@ -177,13 +180,77 @@ def test_a_mesh_shared_by_two_descriptions_is_recorded_for_both(crate: Path, set
         assert ("inertia-mismatch", "warning") in {(f["rule"], f["severity"]) for f in entry["findings"]}, entry["path"]
 
 
-def test_code_stamp_follows_the_source_files(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
-    (tmp_path / "a.py").write_text("x = 1\n")
-    monkeypatch.setattr(result_cache, "_PACKAGE_DIR", tmp_path)
+def test_code_stamp_follows_the_source_files_and_the_libraries(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    (tmp_path / "src").mkdir()
+    (tmp_path / "src" / "a.py").write_text("x = 1\n")
+    monkeypatch.setattr(result_cache, "_PACKAGE_DIR", tmp_path / "src")
+    monkeypatch.setattr(result_cache, "DEPENDENCIES", ("qa_meshreader",))
+    monkeypatch.syspath_prepend(str(tmp_path / "site"))
     first = result_cache.code_stamp()
     assert result_cache.code_stamp() == first
-    (tmp_path / "a.py").write_text("x = 22\n")  # an edited checkout is another linkcheck
-    assert result_cache.code_stamp() != first
+    (tmp_path / "src" / "a.py").write_text("x = 22\n")  # an edited checkout is another linkcheck
+    second = result_cache.code_stamp()
+    assert second != first
+    (tmp_path / "site" / "qa_meshreader").mkdir(parents=True)  # an optional reader gets installed
+    (tmp_path / "site" / "qa_meshreader" / "__init__.py").write_text("")
+    import importlib
+
+    importlib.invalidate_caches()
+    assert result_cache.code_stamp() != second
+
+
+def test_symlinked_copy_finds_its_own_meshes(tmp_path: Path, settled: None, monkeypatch: pytest.MonkeyPatch,
+                                             capsys: pytest.CaptureFixture[str]) -> None:
+    monkeypatch.chdir(tmp_path)
+    for folder, side in (("real", SIDE), ("other", 2 * SIDE)):
+        (tmp_path / folder).mkdir()
+        write_cube(tmp_path / folder / "crate.stl", side)
+    (tmp_path / "real" / "crate.urdf").write_text(URDF.format(m=MASS, i=MASS * SIDE**2 / 6, mesh="crate.stl"))
+    (tmp_path / "other" / "crate.urdf").symlink_to(tmp_path / "real" / "crate.urdf")
+    for path in ("other/crate.urdf", "real/crate.urdf", "./real/crate.urdf", str(tmp_path / "real" / "crate.urdf")):
+        assert run(capsys, path) == run(capsys, "--no-cache", path), path
+    report = json.loads(run(capsys, "real/crate.urdf", "other/crate.urdf")[1])
+    assert [e["path"] for e in report["files"]] == ["real/crate.urdf", "other/crate.urdf"]
+    assert [("inertia-mismatch", "warning") in {(f["rule"], f["severity"]) for f in e["findings"]}
+            for e in report["files"]] == [False, True]  # the 2x cube beside the link: 4x the moments
+
+
+def test_a_mesh_that_failed_to_load_is_never_stored(crate: Path, settled: None, private_cache: Path,
+                                                    monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]) -> None:
+    from linkcheck.geometry import mesh, mesh_io
+
+    def missing_reader(*args: object, **kwargs: object) -> None:
+        raise mesh_io.MeshError("needs an optional package to read '.stl' (No module named 'qa_reader')")
+
+    with monkeypatch.context() as patch:  # as if an optional reader were not installed yet
+        patch.setattr(mesh, "load_triangles", missing_reader)
+        assert ("mesh-unavailable", "error") in rules(run(capsys, "--no-cache", str(crate))[1])
+        assert ("mesh-unavailable", "error") in rules(run(capsys, str(crate))[1])
+    assert stored(private_cache) == []
+    assert run(capsys, str(crate))[0] == 0
+
+
+def test_gltf_buffers_are_part_of_both_caches(tmp_path: Path, settled: None, monkeypatch: pytest.MonkeyPatch,
+                                              capsys: pytest.CaptureFixture[str]) -> None:
+    # glTF 2.0 (Khronos spec): a .gltf's vertex data may live in a separate buffer file named by buffers[].uri
+    monkeypatch.chdir(tmp_path)
+
+    def export(side: float, suffix: str = "") -> None:
+        for name, data in trimesh.creation.box((side, side, side)).export(file_type="gltf").items():
+            if name.endswith(suffix):
+                (tmp_path / name).write_bytes(data)
+
+    export(SIDE)
+    (tmp_path / "crate.urdf").write_text(URDF.format(m=MASS, i=MASS * SIDE**2 / 6, mesh="model.gltf"))
+    assert [p.name for p in tmp_path.iterdir() if p.suffix == ".bin"], "the export keeps its buffer beside it"
+    assert run(capsys, "crate.urdf")[0] == 0
+    gltf = (tmp_path / "model.gltf").read_bytes()
+    export(2 * SIDE, ".bin")  # the vertices change in the buffer only
+    assert (tmp_path / "model.gltf").read_bytes() == gltf
+    for args in (["crate.urdf"], ["--fail-on", "error", "crate.urdf"]):  # the second misses the result cache only
+        after = run(capsys, *args)
+        assert after == run(capsys, "--no-cache", *args)
+        assert ("inertia-mismatch", "warning") in rules(after[1])
 
 
 PROBE = """

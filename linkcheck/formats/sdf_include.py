@@ -63,7 +63,7 @@ def find_include(uri: str, base_dir: Path, search: Any = None) -> Path | None:
     """
     found = _find_include(uri.strip(), base_dir, search)
     if found is None:
-        reads.note_missing()
+        reads.note_incomplete()
     else:
         reads.note(found)
     return found

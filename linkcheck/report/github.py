@@ -11,9 +11,9 @@ from pathlib import Path
 from typing import Any
 
 from linkcheck.report._paths import relative_posix
+from linkcheck.severity import RANK
 
 COMMAND = {"error": "error", "warning": "warning", "info": "notice"}
-ORDER = {"error": 0, "warning": 1, "info": 2}
 
 
 def escape_data(text: str) -> str:
@@ -42,7 +42,7 @@ def render_github(report: dict[str, Any], base: Path | None = None) -> str:
             if link and str(link) not in message:
                 message = f"link '{link}': {message}"
             props = f"file={escape_property(path)},line={max(1, int(line))},title={escape_property(title)}"
-            rows.append((ORDER.get(severity, 1), len(rows),
+            rows.append((RANK.get(severity, 1), len(rows),
                          f"::{COMMAND.get(severity, 'warning')} {props}::{escape_data(message)}"))
     rows.sort()
     return "".join(row + "\n" for _, _, row in rows)

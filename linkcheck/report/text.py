@@ -8,6 +8,8 @@ from __future__ import annotations
 import re
 from typing import IO, Any
 
+from linkcheck.severity import RANK
+
 SEVERITY_STYLE = {"error": "bold red", "warning": "yellow", "info": "cyan"}
 _LINK_PREFIX = re.compile(r"^link '[^']*': ")
 
@@ -36,7 +38,7 @@ def render_text(report: dict[str, Any], stream: IO[str], color: bool, quiet: boo
     rows: list[tuple[str, ...]] = []
     for entry in report["files"]:
         found = [f for f in entry["findings"] if not (quiet and f["severity"] == "info")]
-        found.sort(key=lambda f: (f.get("line") or 0, {"error": 0, "warning": 1, "info": 2}[f["severity"]]))
+        found.sort(key=lambda f: (f.get("line") or 0, RANK[f["severity"]]))
         if rows and found:
             rows.append(())
         rows.extend(finding_line(entry["path"], f) for f in found)
