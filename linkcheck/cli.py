@@ -15,10 +15,8 @@ from typing import Any
 
 from linkcheck import __version__
 from linkcheck.errors import LinkcheckError
-
-MESH_SUFFIXES = (".stl", ".dae", ".obj", ".glb", ".gltf")
-FAIL_LEVELS = {"error": 0, "warning": 1, "info": 2, "never": -1}
-RANK = {"error": 0, "warning": 1, "info": 2}
+from linkcheck.paths import MESH_SUFFIXES
+from linkcheck.severity import FAIL_LEVELS, RANK
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -214,6 +212,6 @@ def _print_fixes(out: Any, results: list[Any], diff: bool, color: bool) -> None:
 def _display(path: Path) -> str:
     """Paths as the user would type them: relative to the working folder when inside it."""
     try:
-        return path.resolve().relative_to(Path.cwd().resolve()).as_posix()
+        return Path(os.path.abspath(path)).relative_to(os.getcwd()).as_posix()
     except ValueError:
         return str(path)

@@ -10,6 +10,8 @@ from collections.abc import Iterator
 from pathlib import Path
 
 DESCRIPTION_SUFFIXES = (".urdf", ".sdf", ".world")
+#: Mesh files linkcheck reads (the loaders in geometry/mesh_io.py); as a PATH they select their users.
+MESH_SUFFIXES = (".stl", ".dae", ".obj", ".glb", ".gltf", ".ply", ".off")
 #: Configuration file names, nearest folder first; in a folder the first name wins.
 CONFIG_NAMES = ("linkcheck.toml", "pyproject.toml")
 #: Environment variables that list ROS package folders and install prefixes (``package://``).

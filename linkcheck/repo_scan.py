@@ -16,11 +16,12 @@ from functools import lru_cache
 from pathlib import Path
 from typing import TYPE_CHECKING, Iterable
 
+from linkcheck.paths import MESH_SUFFIXES
+
 if TYPE_CHECKING:
     from linkcheck.geometry.resolve import SearchPaths
 
 DESCRIPTION_SUFFIXES = (".urdf", ".sdf", ".world", ".xacro")
-MESH_SUFFIXES = (".stl", ".dae", ".obj", ".glb", ".gltf")
 #: Folders a walk skips besides hidden ones: build trees and environments, never sources.
 SKIP_DIRS = frozenset({"build", "install", "devel", "log", "node_modules", "__pycache__", "site-packages",
                        "venv", "dist"})

@@ -8,6 +8,7 @@ folder name; ament: <prefix>/share/NAME; resource_retriever hands file:// to lib
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
 
 import pytest
@@ -183,3 +184,67 @@ def test_dotdot_escaping_the_repository_resolves_only_real_files(repo: Path, tmp
     assert missing.path is None and "none.stl" in missing.reason
     # a folder is not a mesh file
     assert resolve_uri("../../../shared_meshes", desc, NO_ENV).path is None
+
+
+# A package is a folder that exists (rospkg finds package.xml folders; ament_index_python raises
+# PackageNotFoundError when <prefix>/share/NAME is not there, from memory). A guessed share/NAME or a
+# --package-path folder that does not exist is no package, so the message must say how to point
+# linkcheck at it, not that a found package lacks the file.
+
+
+def test_ament_prefix_without_the_package_says_not_found(tmp_path: Path) -> None:
+    prefix = tmp_path / "install"
+    (prefix / "share" / "other_pkg").mkdir(parents=True)  # a real prefix, just not this package
+    search = SearchPaths(env={"AMENT_PREFIX_PATH": f"/nonexistent/prefix:{prefix}"})
+    res = resolve_uri("package://no_such_pkg/meshes/part.stl", tmp_path / "d", search)
+    assert res.path is None
+    assert "package 'no_such_pkg'" in res.reason and "not found" in res.reason
+    assert "--package-path no_such_pkg=DIR" in res.reason and "has no file" not in res.reason
+    assert any(str(prefix / "share" / "no_such_pkg") in t for t in res.tried)  # still listed as tried
+
+
+def test_package_path_to_a_missing_folder_says_not_found(tmp_path: Path) -> None:
+    search = SearchPaths(package_paths={"no_such_pkg": tmp_path / "nonexistent_dir"}, env={})
+    res = resolve_uri("package://no_such_pkg/meshes/part.stl", tmp_path / "d", search)
+    assert res.path is None
+    assert "not found" in res.reason and "has no file" not in res.reason
+    assert f"{tmp_path / 'nonexistent_dir'} does not exist" in res.reason
+    assert "--package-path no_such_pkg=DIR" in res.reason
+
+
+@pytest.mark.parametrize("how", ["ament", "package-path"])
+def test_existing_package_folder_without_the_file_says_the_file_is_missing(tmp_path: Path, how: str) -> None:
+    share = tmp_path / "install" / "share" / "base_pkg"
+    touch(share / "meshes" / "other.stl")
+    if how == "ament":
+        search = SearchPaths(env={"AMENT_PREFIX_PATH": str(tmp_path / "install")})
+    else:
+        search = SearchPaths(package_paths={"base_pkg": share}, env={})
+    res = resolve_uri("package://base_pkg/meshes/part.stl", tmp_path / "d", search)
+    assert res.path is None
+    assert "package 'base_pkg' has no file 'meshes/part.stl'" in res.reason and "not found" not in res.reason
+
+
+def test_package_path_that_is_a_folder_is_not_a_regular_file(tmp_path: Path) -> None:
+    pkg = tmp_path / "vendor" / "thing"
+    (pkg / "meshes" / "part.stl").mkdir(parents=True)
+    search = SearchPaths(package_paths={"thing": pkg}, env={})
+    res = resolve_uri("package://thing/meshes/part.stl", tmp_path / "d", search)
+    assert res.path is None
+    assert f"{pkg / 'meshes' / 'part.stl'} is not a regular file" in res.reason
+
+
+def test_folder_and_fifo_and_device_are_not_regular_files(tmp_path: Path) -> None:
+    (tmp_path / "meshes" / "dir.stl").mkdir(parents=True)
+    specials = ["meshes/dir.stl"]
+    if hasattr(os, "mkfifo"):
+        os.mkfifo(tmp_path / "meshes" / "pipe.stl")  # opening it for reading would block
+        specials.append("meshes/pipe.stl")
+    if Path("/dev/zero").exists():
+        specials.append("/dev/zero")  # reading it never ends
+    for uri in specials:
+        res = resolve_uri(uri, tmp_path, NO_ENV)
+        assert res.path is None
+        assert "not a regular file" in res.reason and "no file at" not in res.reason, (uri, res.reason)
+    missing = resolve_uri("meshes/none.stl", tmp_path, NO_ENV)
+    assert missing.reason.startswith("no file at ")  # a plain miss keeps its wording

@@ -19,6 +19,10 @@ _STL_RECORD = np.dtype([("n", "<f4", (3,)), ("v", "<f4", (3, 3)), ("attr", "<u2"
 _VERTEX_RE = re.compile(rb"vertex\s+(\S+)\s+(\S+)\s+(\S+)", re.I)  # some exporters write upper case
 UP_AXIS_RE = re.compile(rb"<up_axis>\s*([XYZ]_UP)\s*</up_axis>")
 _UNIT_RE = re.compile(rb"<unit\b[^>]*?\bmeter\s*=\s*[\"']([^\"']+)[\"']")
+#: Text formats trimesh decodes as UTF-8, else by a charset_normalizer guess (not a dependency);
+#: they reach it as UTF-8. PLY is text only up to ``end_header`` unless ``format ascii``.
+_TEXT_FORMATS = frozenset({"obj", "off", "gltf"})
+_PLY_ASCII_RE = re.compile(rb"^[ \t]*format[ \t]+ascii\b", re.I | re.M)
 
 
 
@@ -83,9 +87,14 @@ def _read_with_trimesh(path: Path, data: bytes, submesh: str | None = None) -> n
 
     logging.getLogger("trimesh").setLevel(logging.ERROR)
     ext = path.suffix.lower().lstrip(".")
+    if ext in _TEXT_FORMATS:
+        data = _as_utf8(data)
+    elif ext == "ply":
+        data = _ply_as_utf8(data)
     try:
-        if ext == "gltf":
-            scene = trimesh.load_scene(str(path), process=False)  # external buffers sit beside it
+        if ext == "gltf":  # external buffers sit beside it
+            resolver = trimesh.resolvers.FilePathResolver(str(path))
+            scene = trimesh.load_scene(io.BytesIO(data), file_type=ext, resolver=resolver, process=False)
         else:
             scene = trimesh.load_scene(io.BytesIO(data), file_type=ext, process=False)
     except ImportError as exc:
@@ -113,6 +122,30 @@ def _read_with_trimesh(path: Path, data: bytes, submesh: str | None = None) -> n
     if not parts:
         raise MeshError("the file holds no triangles")
     return np.concatenate(parts)
+
+
+def _as_utf8(data: bytes) -> bytes:
+    """Text bytes as UTF-8: unchanged if they already are, else read as latin-1 (every byte decodes)."""
+    if data.isascii():
+        return data
+    try:
+        data.decode("utf-8")
+    except UnicodeDecodeError:
+        return data.decode("latin-1").encode("utf-8")
+    return data
+
+
+def _ply_as_utf8(data: bytes) -> bytes:
+    """A PLY file with its header as UTF-8, and its body too if ``format ascii``; binary bodies untouched."""
+    end = data.find(b"end_header")
+    if end < 0:
+        return data  # trimesh reports the broken header
+    newline = data.find(b"\n", end)
+    cut = len(data) if newline < 0 else newline + 1
+    header, body = data[:cut], data[cut:]
+    if _PLY_ASCII_RE.search(header):
+        body = _as_utf8(body)
+    return _as_utf8(header) + body
 
 
 def up_axis_rotation(up_axis: str | None) -> np.ndarray:

@@ -59,7 +59,7 @@ def resolve_uri(uri: str, base_dir: Path, search: SearchPaths | None = None) -> 
     """Resolve ``uri`` as written in a description whose folder is ``base_dir``."""
     found = _resolve(uri, base_dir, search or SearchPaths())
     if found.path is None:
-        reads.note_missing()
+        reads.note_incomplete()
     else:
         reads.note(found.path)
     return found
@@ -101,6 +101,9 @@ def _resolve_plain(uri: str, path_text: str, base_dir: Path) -> Resolution:
         tried.append(str(candidate))
         if candidate.is_file():
             return Resolution(candidate, tuple(tried))
+    for text in tried:
+        if Path(text).exists():  # a folder, FIFO or device: opening it would hang or fail
+            return Resolution(None, tuple(tried), None, f"{text} is not a regular file")
     return Resolution(None, tuple(tried), None, f"no file at {tried[0]}{_case_hint(Path(tried[0]))}")
 
 
@@ -119,7 +122,9 @@ def _resolve_package(uri: str, name: str, sub: str, base_dir: Path, search: Sear
     tried: list[str] = []
 
     seen: set[Path] = set()
-    misses: list[Path] = []
+    misses: list[Path] = []  # in a package folder that exists: the package is there, the file is not
+    irregular: list[Path] = []  # there, but a folder, FIFO or device
+    absent: list[Path] = []  # folders named by --package-path that do not exist
 
     def attempt(folder: Path, how: str) -> Path | None:
         candidate = folder / unquote(sub) if sub else folder
@@ -131,7 +136,13 @@ def _resolve_package(uri: str, name: str, sub: str, base_dir: Path, search: Sear
             if "package.xml" in how:
                 reads.note(folder / "package.xml")  # renaming the package must change the answer
             return candidate
-        misses.append(candidate)
+        if not folder.is_dir():  # a guessed <prefix>/share/NAME or a mistyped folder: no package there
+            if how == "--package-path":
+                absent.append(folder)
+        elif candidate.exists():
+            irregular.append(candidate)
+        else:
+            misses.append(candidate)
         return None
 
     root = _project_root(base_dir)
@@ -161,11 +172,14 @@ def _resolve_package(uri: str, name: str, sub: str, base_dir: Path, search: Sear
             why = f"its package.xml declares '{declared}'" if declared else "it has no package.xml"
             note = f"package '{name}' found by folder name at {folder} ({why})"
             return Resolution(hit, tuple(tried), note)
+    given = f" (--package-path folder {absent[0]} does not exist)" if absent else ""
     reason = (
-        f"package '{name}' of '{uri}' not found; point linkcheck at it with "
+        f"package '{name}' of '{uri}' not found{given}; point linkcheck at it with "
         f"--package-path {name}=DIR (or ROS_PACKAGE_PATH)"
     )
-    if misses:  # the package is there; the file is not
+    if irregular:
+        reason = f"package '{name}': {irregular[0]} is not a regular file"
+    elif misses:  # the package is there; the file is not
         reason = f"package '{name}' has no file '{unquote(sub)}'{_case_hint(misses[0])}"
     if not tried:
         tried.append(f"no package.xml named '{name}' under {root} or beside it")
