@@ -446,6 +446,107 @@ def test_two_bodies_with_flipped_faces_in_one_are_reoriented_per_body(tmp_path: 
     assert_matches_trimesh(est, f32_mesh(trimesh.util.concatenate([a, b])))
 
 
+def cubes(*placed: tuple[float, float, bool]) -> tuple[np.ndarray, trimesh.Trimesh]:
+    """Separate cubes (edge, x of centre, wound inside-out?) as one soup, and the same cubes all wound outward."""
+    right, stored = [], []
+    for edge, x, inverted in placed:
+        cube = trimesh.creation.box((edge, edge, edge))
+        cube.apply_translation((x, 0.0, 0.0))
+        right.append(cube.copy())
+        if inverted:
+            cube.invert()
+        stored.append(cube)
+    return trimesh.util.concatenate(stored).triangles, trimesh.util.concatenate(right)
+
+
+def handbook_cubes(placed: list[tuple[float, float]]) -> tuple[float, float, np.ndarray]:
+    """Volume, x of the COM and central inertia of solid cubes centred on the x axis: handbook cube
+    I = m a²/6 about its centre, moved to the common COM by the parallel axis theorem."""
+    masses = np.array([a**3 for a, _ in placed])
+    xs = np.array([x for _, x in placed])
+    com = float(masses @ xs / masses.sum())
+    own = float(sum(m * a * a / 6 for m, (a, _) in zip(masses, placed)))
+    steiner = float(masses @ (xs - com) ** 2)
+    return float(masses.sum()), com, np.diag([own, own + steiner, own + steiner])
+
+
+@pytest.mark.parametrize(
+    "placed",
+    [
+        [(0.125, 0.0, False), (0.125, 1.0, True)],  # equal cubes: the signed volume cancels to ~0
+        [(0.125, 0.0, False), (0.0625, 0.5, True)],  # the smaller one inverted: negative moments
+        [(0.125, 0.0, True), (0.0625, 0.5, False), (0.25, -1.0, False)],
+    ],
+)
+def test_separate_inverted_body_among_right_ones_is_flipped(tmp_path: Path, placed) -> None:
+    tris, right = cubes(*placed)
+    est = estimate(write_binary_stl(tmp_path / "bodies.stl", tris))
+    assert rules(est) == ["mesh-inside-out"] and est.trusted
+    assert f"1 of {len(placed)} bodies was wound inside-out" in est.findings[0].message
+    # trimesh's mass_properties of the same cubes all wound outward (edges and offsets exact in float32)
+    assert_matches_trimesh(est, right, rtol=1e-9)
+    volume, com_x, inertia = handbook_cubes([(a, x) for a, x, _ in placed])
+    assert est.solid.volume == pytest.approx(volume, rel=1e-9)
+    assert np.allclose(est.solid.props.com, (com_x, 0, 0), rtol=0, atol=1e-9)
+    assert np.allclose(est.solid.props.inertia, inertia, rtol=0, atol=1e-9 * inertia.max())
+
+
+def test_inverted_body_beside_a_hollow_one_is_flipped_and_the_cavity_kept(tmp_path: Path) -> None:
+    outer = trimesh.creation.box((1.0, 1.0, 1.0))
+    cavity = trimesh.creation.box((0.5, 0.5, 0.5))
+    cavity.invert()  # faces into the hole: stays a hole
+    apart = trimesh.creation.box((0.75, 0.75, 0.75))
+    apart.apply_translation((3.0, 0.0, 0.0))
+    right = trimesh.util.concatenate([outer, cavity, apart.copy()])
+    apart.invert()
+    est = estimate(write_binary_stl(tmp_path / "hollow_and_inv.stl", trimesh.util.concatenate([outer, cavity, apart]).triangles))
+    assert rules(est) == ["mesh-inside-out"] and "1 of 3 bodies was" in est.findings[0].message
+    assert_matches_trimesh(est, right, rtol=1e-9)  # trimesh: volume = outer - cavity + apart
+    assert est.solid.volume == pytest.approx(1.0 - 0.125 + 0.75**3, rel=1e-12)  # handbook cube volumes
+
+
+def test_hollow_body_never_pays_for_the_topology_pass(tmp_path: Path, monkeypatch) -> None:
+    import linkcheck.geometry.mesh as mesh_module
+
+    def forbidden(*_):
+        raise AssertionError("topology pass run on a mesh whose cheap integral is a possible solid")
+
+    monkeypatch.setattr(mesh_module, "topology", forbidden)
+    outer = trimesh.creation.box((1.0, 0.5, 0.25))
+    cavity = trimesh.creation.icosphere(subdivisions=2, radius=0.1)
+    cavity.apply_translation((0.3, 0.1, 0.0))  # off-centre: COM and products of inertia move
+    cavity.invert()
+    shell = trimesh.util.concatenate([outer, cavity])
+    est = estimate(write_binary_stl(tmp_path / "hollow.stl", shell.triangles))
+    assert est.trusted and not est.findings
+    assert_matches_trimesh(est, f32_mesh(shell))  # trimesh on the hollow mesh: cavity subtracted
+
+
+@pytest.mark.parametrize("hollow", [False, True])
+def test_all_bodies_inverted_are_flipped_as_a_whole(tmp_path: Path, hollow: bool) -> None:
+    if hollow:  # everything inside-out, the cavity too: flipping the whole keeps it a cavity
+        cavity = trimesh.creation.icosphere(subdivisions=2, radius=0.2)
+        cavity.invert()
+        right = trimesh.util.concatenate([trimesh.creation.box((1, 1, 1)), cavity])
+    else:
+        _, right = cubes((0.125, 0.0, False), (0.25, 1.0, False))
+    tris = right.triangles[:, [0, 2, 1]]
+    est = estimate(write_binary_stl(tmp_path / "all.stl", tris))
+    assert rules(est) == ["mesh-inside-out"] and "the surface is wound inward" in est.findings[0].message
+    assert_matches_trimesh(est, f32_mesh(right), rtol=1e-9)  # trimesh on the outward-wound mesh
+
+
+def test_undecidable_bodies_give_no_estimate(tmp_path: Path) -> None:
+    # an inward box in the hole of a ring: inside the ring's bounding box, so it counts as a cavity,
+    # but nothing surrounds it, and body minus ring has a negative moment of inertia
+    ring = trimesh.creation.annulus(r_min=0.3, r_max=0.35, height=0.1, sections=64)
+    inner = trimesh.creation.box((0.4, 0.4, 0.1))
+    inner.invert()
+    est = estimate(write_binary_stl(tmp_path / "ring.stl", trimesh.util.concatenate([ring, inner]).triangles))
+    assert est.solid is None and not est.trusted
+    assert rules(est) == ["mesh-unavailable"] and "cannot be decided" in est.findings[0].message
+
+
 def test_open_box_with_two_opposite_faces_missing(tmp_path: Path) -> None:
     # the area vectors of the two holes cancel; the weighted edge sums do not
     cube = trimesh.creation.box((1, 1, 1))

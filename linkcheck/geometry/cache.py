@@ -20,7 +20,7 @@ from typing import Any
 from linkcheck import reads
 
 #: Bump when the meaning of a cached payload changes.
-FORMAT_VERSION = 1
+FORMAT_VERSION = 2  # 2: closed meshes with one of several bodies inside-out are re-oriented per body
 
 
 def default_directory(env: dict[str, str] | None = None) -> Path:

@@ -12,8 +12,11 @@ The integral is the divergence theorem over signed tetrahedra, in float64, with 
 shifted to the bounding-box centre first. A cheap closure test runs on every mesh: over a closed,
 consistently wound surface every edge is used once in each direction, so the antisymmetric edge
 sums Σ p×q and Σ (p+q)⊗(p×q) vanish (to rounding); they also make the integrals independent of
-the reference point. Only a mesh that fails it pays for the topology pass (vertex merge by exact
-bit pattern, edge-use counts, winding propagation), whose result the cache keeps.
+the reference point. Only a mesh that fails it, or whose integral is no possible solid (no volume,
+centroid outside the bounding box, inertia not positive or breaking the triangle inequality: a
+closed surface with one of several bodies inside-out), pays for the topology pass (vertex merge by
+exact bit pattern, edge-use counts, winding propagation, per-body orientation), whose result the
+cache keeps.
 """
 
 from __future__ import annotations
@@ -24,12 +27,14 @@ from typing import Any
 
 import numpy as np
 
+from linkcheck import reads
 from linkcheck.geometry.cache import MeshCache
 from linkcheck.geometry.mesh_io import LOADERS, UP_AXIS_RE, MeshError, load_triangles
 from linkcheck.geometry.resolve import Resolution, SearchPaths, resolve_uri
 from linkcheck.geometry.solid import Solid, enclosing_sphere
-from linkcheck.inertia import MassProperties
+from linkcheck.inertia import MassProperties, principal, satisfies_triangle, tolerance
 from linkcheck.model import Finding
+from linkcheck.severity import SEVERITIES
 from linkcheck.settings import DEFAULT
 
 #: Loader names by lower-case extension; the loader is part of the cache key.
@@ -124,8 +129,9 @@ def _mesh_estimate(
         est = _unavailable(uri, None, f"{reason}{tried}")
         return MeshEstimate(None, est.findings, False, None)
     path = res.path
-    if len(scale) != 3 or not all(np.isfinite(scale)) or any(s == 0 for s in scale):
-        return _unavailable(uri, path, f"scale {scale} must be three finite, non-zero numbers", notes)
+    scale_problem = _scale_problem(scale)
+    if scale_problem is not None:
+        return _unavailable(uri, path, scale_problem, notes)
     ext = path.suffix.lower()
     loader = LOADERS.get(ext)
     if loader is None:
@@ -139,12 +145,17 @@ def _mesh_estimate(
         st = path.stat()
     except OSError as exc:
         return _unavailable(uri, path, f"cannot be read ({exc.strerror or exc})", notes)
-    memo_key = (str(path.resolve()), st.st_size, st.st_mtime_ns, st.st_ino, scale, variant)
+    extra = _external_files(path) if ext == ".gltf" else []
+    for f in extra:
+        reads.note(f)
+    memo_key = (str(path.resolve()), st.st_size, st.st_mtime_ns, st.st_ino, scale, variant, *(str(reads.stamp(f)) for f in extra))
     # without a disk cache, a mesh named by several links is still computed once per process
     result: _Result | None = _MEMO.get(memo_key) if cache is None else None
     if result is None and cache is not None:
         try:
             digest, data = cache.digest(path)
+            for f in extra:  # a .gltf's buffers hold its vertices: their content is part of the key
+                digest += "|" + (cache.digest(f)[0] if f.is_file() else "missing")
         except OSError as exc:
             return _unavailable(uri, path, f"cannot be read ({exc.strerror or exc})", notes)
         key = cache.key(digest, scale, variant)  # type: ignore[arg-type]
@@ -160,6 +171,7 @@ def _mesh_estimate(
             result = _compute(data, loader, path, np.array(scale, dtype=float), part)
         except MeshError as exc:
             # not cached: a failure may come from the environment (a missing optional reader)
+            reads.note_incomplete()
             result = _Result(None, None, [Finding("mesh-unavailable", "error", str(exc))])
         else:
             if cache is not None and key is not None:
@@ -177,6 +189,19 @@ def _mesh_estimate(
     if units is not None:
         findings.append(units)
     return MeshEstimate(solid, tuple(findings), units is None, path, result.upper_bound, result.triangles, cached, result.up_axis)
+
+
+def _external_files(path: Path) -> list[Path]:
+    """The files a .gltf reads besides itself (buffers not embedded as data: URIs)."""
+    import json
+    from urllib.parse import unquote
+
+    try:
+        buffers = json.loads(path.read_bytes()).get("buffers", [])
+        uris = [b.get("uri") for b in buffers]
+    except (OSError, ValueError, AttributeError, TypeError):
+        return []  # the loader says what is wrong with the file
+    return [path.parent / unquote(u) for u in uris if isinstance(u, str) and u and not u.startswith("data:")]
 
 
 #: Results already computed in this process (the same mesh on several links, or a re-check).
@@ -300,12 +325,33 @@ def _compute_solid(data: bytes, loader: str, path: Path, scale: np.ndarray, part
     it = integrate(cols, origin, radius)
     findings: list[Finding] = []
     points = _extreme_points(cols) + origin
-    flat_tol = 1e-9 * it.area * radius
-    if it.closure <= CLOSURE_TOL and abs(it.volume) > flat_tol:
+    if it.closure <= CLOSURE_TOL and not _no_volume(it, radius) and _impossible(it, lo, hi) is None:
         return _closed_result(it, points, n, findings)
-    if it.closure <= CLOSURE_TOL:
-        raise MeshError(f"the surface encloses no volume (signed volume {it.volume:.3g} m^3 over extents {_fmt_vec(extent)} m)")
-    return _repair(cols, origin, radius, points, n)
+    # open, or closed with an integral no solid can have (bodies inside-out among right ones)
+    return _repair(cols, origin, radius, points, n, lo, hi)
+
+
+def _no_volume(it: _Integral, radius: float) -> bool:
+    return abs(it.volume) <= 1e-9 * it.area * radius
+
+
+def _impossible(it: _Integral, lo: np.ndarray, hi: np.ndarray) -> str | None:
+    """Why the integral of a closed surface cannot be a solid of positive density (None: it can).
+
+    A solid's centroid lies in its bounding box and its central inertia has no negative principal
+    moment and obeys I3 <= I1 + I2 (tolerances of inertia.py). A surface that is closed but holds
+    bodies wound inside-out beside right ones passes the closure test and usually fails this one.
+    """
+    props = _props(it, -1.0 if it.volume < 0 else 1.0)
+    slack = 1e-6 * float(np.linalg.norm(hi - lo))
+    if np.any(props.com < lo - slack) or np.any(props.com > hi + slack):
+        return f"centre of mass {_fmt_vec(props.com)} m outside the bounding box"
+    moments = principal(props.inertia)[0]
+    if np.trace(props.inertia) <= 0 or moments[0] < -tolerance(props.inertia):
+        return f"principal moments {_fmt_vec(moments)} m^5 include a negative one"
+    if not satisfies_triangle(props.inertia, moments=moments):
+        return f"principal moments {_fmt_vec(moments)} m^5 break the triangle inequality"
+    return None
 
 
 def _fmt_vec(v: np.ndarray) -> str:
@@ -409,28 +455,58 @@ def orient(faces: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
     return flip, labels
 
 
-def _repair(cols: np.ndarray, origin: np.ndarray, radius: float, points: np.ndarray, n: int) -> _Result:
+def _repair(cols: np.ndarray, origin: np.ndarray, radius: float, points: np.ndarray, n: int,
+            lo: np.ndarray, hi: np.ndarray) -> _Result:
     tris = cols.transpose(2, 1, 0)
     topo = topology(tris)
     findings: list[Finding] = []
-    if topo.open_edges == 0 and topo.inconsistent_edges == 0:
-        return _closed_result(integrate(to_columns(tris[topo.keep]), origin, radius), points, n, findings)
     if topo.open_edges == 0:
+        if topo.inconsistent_edges == 0:
+            it = integrate(to_columns(tris[topo.keep]), origin, radius)
+            if not _no_volume(it, radius) and _impossible(it, lo, hi) is None:
+                return _closed_result(it, points, n, findings)
         oriented = orient(topo.faces)
         if oriented is not None:
             flip, labels = oriented
-            fixed = tris[topo.keep].copy()
+            fixed = tris[topo.keep]
             fixed[flip] = fixed[flip][:, [0, 2, 1]]
-            outward = _outward_patches(fixed, labels)
-            flip ^= outward[labels]
+            faces = topo.faces.copy()
+            faces[flip] = faces[flip][:, [0, 2, 1]]
+            outward = _outward_patches(fixed, labels, faces)
             fixed[outward[labels]] = fixed[outward[labels]][:, [0, 2, 1]]
             it = integrate(to_columns(fixed), origin, radius)
             if it.closure <= CLOSURE_TOL * 10:
-                flipped = int(flip.sum())
-                findings.append(Finding("mesh-inside-out", "info",
-                                        f"{flipped} of {n} triangles were wound against their neighbours; "
-                                        f"re-oriented consistently before integrating", data={"reoriented": flipped}))
+                if _no_volume(it, radius):
+                    raise MeshError(f"the surface encloses no volume (signed volume {it.volume:.3g} m^3 "
+                                    f"over extents {_fmt_vec(hi - lo)} m)")
+                bodies, turned = len(outward), int(outward.sum())
+                impossible = _impossible(it, lo, hi)
+                if impossible is not None:
+                    return _Result(None, None, [Finding(
+                        "mesh-unavailable", "error",
+                        f"the surface is closed but integrates to no possible solid ({impossible}) even with its "
+                        f"{bodies} bodies oriented; which are bodies and which are cavities cannot be decided "
+                        f"(bodies through each other, or an inward one inside another's bounding box but not "
+                        f"inside it), so the mesh gives no estimate", data={"bodies": bodies})], False, n)
+                wound = []
+                if flip.any():
+                    wound.append(f"{int(flip.sum())} of {n} triangles were wound against their neighbours "
+                                 f"and were re-oriented consistently")
+                if turned:
+                    wound.append(f"{turned} of {bodies} bodies {'was' if turned == 1 else 'were'} wound inside-out "
+                                 f"(facing inward and inside no other body) and flipped")
+                if wound:
+                    findings.append(Finding("mesh-inside-out", "info", "; ".join(wound) + " before integrating",
+                                            data={"reoriented": int((flip ^ outward[labels]).sum()),
+                                                  "bodies_flipped": turned, "bodies": bodies}))
                 return _closed_result(it, points, n, findings)
+        if topo.inconsistent_edges == 0:  # closed and consistent, yet the faces cannot be paired into bodies
+            return _Result(None, None, [Finding(
+                "mesh-unavailable", "error",
+                f"the surface is closed but integrates to no possible solid "
+                f"({'no volume' if _no_volume(it, radius) else _impossible(it, lo, hi) or 'not closed once oriented'}) "
+                f"and its faces do not pair into bodies; "
+                f"the mesh gives no estimate")], False, n)
         why = f"{topo.inconsistent_edges} edges where the winding flips and cannot be made consistent"
     else:
         why = f"{topo.open_edges} open edges (holes)"
@@ -446,28 +522,40 @@ def _repair(cols: np.ndarray, origin: np.ndarray, radius: float, points: np.ndar
     return _Result(hull_props, hull_points, findings, True, n)
 
 
-def _outward_patches(tris: np.ndarray, labels: np.ndarray) -> np.ndarray:
+def _outward_patches(tris: np.ndarray, labels: np.ndarray, faces: np.ndarray) -> np.ndarray:
     """Patches to flip: those wound inward that no other patch's box contains (so not cavities).
 
     The winding of a patch is only known relative to itself; a patch whose signed volume is
-    negative is a cavity when it sits inside another patch, an inverted body otherwise.
+    negative is a cavity when it sits inside another patch, an inverted body otherwise. Only a
+    patch closed on its own (every edge of it used once each way by its own faces, ``faces``
+    being the merged ids wound as ``tris``) has a signed volume that means anything, so only
+    those are bodies, cavities or containers; pieces of a non-manifold surface are left as wound.
     """
     count = int(labels.max()) + 1
-    d = np.einsum("ij,ij->i", tris[:, 0], np.cross(tris[:, 1], tris[:, 2]))
-    vol = np.bincount(labels, weights=d, minlength=count)
     out = np.zeros(count, dtype=bool)
     if count == 1:
         return out  # one body: an inward result is flipped as a whole and reported as inside-out
+    d = np.einsum("ij,ij->i", tris[:, 0], np.cross(tris[:, 1], tris[:, 2]))
+    vol = np.bincount(labels, weights=d, minlength=count)
+    key, sign, owner = _edges(faces)
+    lab = labels[owner]
+    order = np.lexsort((key, lab))
+    sk, sl = key[order], lab[order]
+    starts = np.flatnonzero(np.r_[True, (sk[1:] != sk[:-1]) | (sl[1:] != sl[:-1])])
+    closed = np.ones(count, dtype=bool)
+    closed[sl[starts[np.add.reduceat(sign[order], starts) != 0]]] = False
     lo = np.full((count, 3), np.inf)
     hi = np.full((count, 3), -np.inf)
     corners = tris.reshape(-1, 3)
     rep = np.repeat(labels, 3)
     np.minimum.at(lo, rep, corners)
     np.maximum.at(hi, rep, corners)
-    for i in np.flatnonzero(vol < 0):
-        inside = np.all(lo <= lo[i], axis=1) & np.all(hi >= hi[i], axis=1) & (vol > 0)
-        inside[i] = False
-        out[i] = not inside.any()
+    inward, hosts = np.flatnonzero(closed & (vol < 0)), np.flatnonzero(closed & (vol > 0))
+    step = max(1, 1_000_000 // max(len(hosts), 1))  # bounded memory, no Python loop per patch
+    for s in range(0, len(inward), step):
+        i = inward[s:s + step]
+        inside = ((lo[hosts][None] <= lo[i][:, None]) & (hi[hosts][None] >= hi[i][:, None])).all(axis=2)
+        out[i] = ~inside.any(axis=1)
     return out
 
 
@@ -506,27 +594,90 @@ def _units_finding(uri: str, points: np.ndarray, scale: tuple[float, ...], max_e
     extent = float((points.max(axis=0) - points.min(axis=0)).max())
     if min_extent <= extent <= max_extent:
         return None
-    factor = 1e-3 if extent > max_extent else 1e3
-    for f in (UNIT_FACTORS if extent > max_extent else UNIT_FACTORS[::-1]):
-        if (f < 1) == (extent > max_extent) and min_extent <= extent * f <= max_extent:
-            factor = f
-            break
-    new = " ".join(f"{s * factor:.6g}" for s in scale)
-    kind = "larger than" if extent > max_extent else "smaller than"
-    hint = "millimetres or other small units read as metres" if extent > max_extent else "a unit scale applied twice or a mesh in metres scaled as millimetres"
+    large = extent > max_extent
+    factor = _extent_factor(extent, min_extent, max_extent)
+    kind = "larger than" if large else "smaller than"
+    hint = "millimetres or other small units read as metres" if large else "a unit scale applied twice or a mesh in metres scaled as millimetres"
+    head = f"mesh '{uri}' is {extent:.4g} m across after scale, {kind} {max_extent if large else min_extent:g} m"
+    if factor is None:
+        # no unit factor brings it into range: a hint would only move it to another absurd size
+        return Finding(
+            "mesh-units-suspect",
+            "warning",
+            f"{head}, and no unit factor (mm, cm, inch, or the reverse) brings it between {min_extent:g} and "
+            f"{max_extent:g} m: check the mesh file and its scale",
+            data={"uri": uri, "extent": extent, "factor": None, "scale": None},
+        )
     return Finding(
         "mesh-units-suspect",
         "warning",
-        f"mesh '{uri}' is {extent:.4g} m across after scale, {kind} {max_extent if extent > max_extent else min_extent:g} m "
-        f"(looks like {hint}); scale=\"{new}\" would make it {extent * factor:.4g} m",
+        f"{head} (looks like {hint}); scale=\"{_scale_text(scale, factor)}\" would make it {extent * factor:.4g} m",
         data={"uri": uri, "extent": extent, "factor": factor, "scale": [s * factor for s in scale]},
     )
 
 
-def suggest_scale(volume: float, mass: float, density_range: tuple[float, float] = (DEFAULT.density_min, DEFAULT.density_max)) -> float | None:
-    """A length factor (1e-3, 1e-2, 0.0254 or 1e3) that brings mass/volume into ``density_range``.
+def _extent_factor(extent: float, min_extent: float, max_extent: float) -> float | None:
+    """The unit factor (shrinking a too-large mesh, growing a too-small one) that brings ``extent``
+    into [min_extent, max_extent], or None when none does."""
+    large = extent > max_extent
+    for f in (UNIT_FACTORS if large else UNIT_FACTORS[::-1]):
+        if (f < 1) == large and min_extent <= extent * f <= max_extent:
+            return f
+    return None
 
-    None when the density is already plausible or no single unit factor explains it.
+
+def _scale_text(scale: tuple[float, ...], factor: float) -> str:
+    """The URDF ``scale`` attribute value with every factor multiplied by ``factor``."""
+    return " ".join(f"{s * factor:.6g}" for s in scale)
+
+
+def _scale_problem(scale: tuple[float, ...]) -> str | None:
+    """Why a mesh ``scale`` cannot be integrated in float64, or None.
+
+    Besides zero and non-finite factors: a scale whose factors multiply to a volume factor that
+    underflows (or overflows) float64, e.g. 1e-300 on every axis, leaves nothing to compute with.
+    """
+    if len(scale) != 3 or not all(np.isfinite(scale)) or any(s == 0 for s in scale):
+        return f"scale {scale} must be three finite, non-zero numbers"
+    volume_factor = abs(scale[0]) * abs(scale[1]) * abs(scale[2])
+    if volume_factor < np.finfo(float).tiny or not np.isfinite(volume_factor):
+        way = "underflows to 0" if volume_factor < np.finfo(float).tiny else "overflows"
+        return (f"scale {scale} is unusable: its volume factor sx*sy*sz {way} in float64, so no volume or "
+                "inertia can be computed; a unit scale is 0.001 (millimetres), 0.01 (centimetres) or 0.0254 (inches)")
+    return None
+
+
+#: How far outside the density range a unit-corrected density may stay when the stated tensor
+#: confirms the factor (the tensor, not the density, is then the evidence; the mass may be off too).
+DENSITY_SLACK = 10.0
+
+#: What the mesh coordinates were, by unit factor: the words of the density-based hint.
+UNIT_WORDS = {1e-3: "millimetres read as metres", 1e-2: "centimetres read as metres", 0.0254: "inches read as metres",
+              1e3: "metres scaled as millimetres (a scale 0.001 too many)"}
+
+
+def suggest_scale(
+    volume: float,
+    mass: float,
+    density_range: tuple[float, float] = (DEFAULT.density_min, DEFAULT.density_max),
+    *,
+    inertia: np.ndarray | None = None,
+    geometry_at: Any = None,
+    tolerance: float = DEFAULT.units_tolerance,
+    extent: float | None = None,
+    extent_range: tuple[float, float] = (DEFAULT.mesh_min_extent, DEFAULT.mesh_max_extent),
+) -> float | None:
+    """A length factor (one of ``UNIT_FACTORS``) the mesh coordinates look off by, or None.
+
+    Only when mass/volume lies outside ``density_range``. By the density alone (``inertia``
+    None): the first factor f with mass/(volume f³) inside the range. With the stated tensor
+    ``inertia`` (kg m², about the COM) and ``geometry_at(f)`` (the link geometry's unit-density
+    MassProperties with its meshes scaled by f): the factor whose geometry, at the stated mass,
+    has the stated tensor within ``tolerance`` (relative Frobenius) and whose implied density
+    mass/volume(f) is inside the range widened by ``DENSITY_SLACK``. A tensor computed for the
+    real part confirms the factor (its ratio to the mesh's is about f², at the mass as stated),
+    where a density alone could be a filler mass on a real large or small part. ``extent``
+    (the meshes' largest extent, m): when given, f x extent must lie inside ``extent_range``.
     """
     lo, hi = density_range
     if not (volume > 0 and mass > 0):
@@ -534,7 +685,20 @@ def suggest_scale(volume: float, mass: float, density_range: tuple[float, float]
     if lo <= mass / volume <= hi:
         return None
     for f in UNIT_FACTORS:
-        if lo <= mass / (volume * f**3) <= hi:
+        if extent is not None and not extent_range[0] <= extent * f <= extent_range[1]:
+            continue
+        if inertia is None or geometry_at is None:
+            if lo <= mass / (volume * f**3) <= hi:
+                return f
+            continue
+        geometry = geometry_at(f)
+        if geometry is None or not geometry.mass > 0:
+            continue
+        if not lo / DENSITY_SLACK <= mass / geometry.mass <= hi * DENSITY_SLACK:
+            continue
+        expected = np.asarray(geometry.with_mass(mass).inertia, dtype=float)
+        norm = float(np.linalg.norm(expected))
+        if norm > 0 and float(np.linalg.norm(np.asarray(inertia, dtype=float) - expected)) <= tolerance * norm:
             return f
     return None
 
@@ -560,6 +724,8 @@ def _from_payload(p: dict[str, Any] | None) -> _Result | None:
         return None
     try:
         findings = [Finding(str(rule), sev, str(msg), data=dict(data)) for rule, sev, msg, data in p["findings"]]
+        if any(f.severity not in SEVERITIES for f in findings):
+            return None
         s = p["solid"]
         up = p.get("up_axis")
         up = str(up) if up is not None else None
@@ -571,5 +737,5 @@ def _from_payload(p: dict[str, Any] | None) -> _Result | None:
         if not (np.isfinite(com).all() and np.isfinite(inertia).all() and len(points)):
             return None
         return _Result(MassProperties(float(s["volume"]), com, inertia), points, findings, bool(p["upper_bound"]), int(p["triangles"]), up)
-    except (KeyError, TypeError, ValueError):
+    except (KeyError, TypeError, ValueError, OverflowError):
         return None
