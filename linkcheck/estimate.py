@@ -68,7 +68,7 @@ class Estimator:
         tensor = inertial.mass_properties().inertia
         if not (np.all(np.isfinite(tensor)) and np.trace(tensor) > 0):
             return result
-        from linkcheck.geometry.mesh import suggest_scale
+        from linkcheck.geometry.units import suggest_scale
 
         own = {id(b): self._meshes[_mesh_key(b.shape)].solid for b in meshes}
         extent = max(float((s.points.max(axis=0) - s.points.min(axis=0)).max()) for s in own.values())
@@ -210,7 +210,7 @@ def _units_note(link: Link, body: Body, factor: float, mass: float, volume: floa
                 tensor: np.ndarray, estimated: np.ndarray, settings: Settings) -> Finding:
     """The mesh-units-suspect finding of one mesh of ``link`` whose coordinates look off by ``factor``."""
     from linkcheck.checks import words
-    from linkcheck.geometry.mesh import UNIT_WORDS
+    from linkcheck.geometry.units import UNIT_WORDS
 
     shape = body.shape
     assert shape is not None

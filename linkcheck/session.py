@@ -81,8 +81,8 @@ class Session:
             self._results = ResultCache()
         return self._results
 
-    def run(self, paths: list[Path], mesh_suffixes: tuple[str, ...]) -> tuple[list[FileResult], list[str]]:
-        """Check every description named or found; return results and one-line input problems."""
+    def run(self, paths: list[Path], mesh_suffixes: tuple[str, ...]) -> tuple[list[Any], list[str]]:
+        """Check every description named or found; return results (FileResult or StoredResult) and one-line input problems."""
         problems: list[str] = []
         files: list[Path] = []
         for path in expand_paths(paths):

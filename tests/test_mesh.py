@@ -19,7 +19,8 @@ import numpy as np
 import pytest
 import trimesh
 
-from linkcheck.geometry.mesh import mesh_estimate, suggest_scale
+from linkcheck.geometry.mesh import mesh_estimate
+from linkcheck.geometry.units import suggest_scale
 from linkcheck.geometry.resolve import SearchPaths
 
 NO_ENV = SearchPaths(env={})
@@ -506,12 +507,12 @@ def test_inverted_body_beside_a_hollow_one_is_flipped_and_the_cavity_kept(tmp_pa
 
 
 def test_hollow_body_never_pays_for_the_topology_pass(tmp_path: Path, monkeypatch) -> None:
-    import linkcheck.geometry.mesh as mesh_module
+    import linkcheck.geometry.mesh_repair as repair_module
 
     def forbidden(*_):
         raise AssertionError("topology pass run on a mesh whose cheap integral is a possible solid")
 
-    monkeypatch.setattr(mesh_module, "topology", forbidden)
+    monkeypatch.setattr(repair_module, "topology", forbidden)
     outer = trimesh.creation.box((1.0, 0.5, 0.25))
     cavity = trimesh.creation.icosphere(subdivisions=2, radius=0.1)
     cavity.apply_translation((0.3, 0.1, 0.0))  # off-centre: COM and products of inertia move

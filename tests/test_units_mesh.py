@@ -17,7 +17,8 @@ import trimesh
 
 from linkcheck.fix import FixOptions
 from linkcheck.formats.urdf import read_urdf
-from linkcheck.geometry.mesh import mesh_estimate, suggest_scale
+from linkcheck.geometry.mesh import mesh_estimate
+from linkcheck.geometry.units import suggest_scale
 from linkcheck.inertia import MassProperties
 from linkcheck.runner import RunOptions, check_document, run_file
 from linkcheck.settings import Settings
