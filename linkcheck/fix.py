@@ -150,7 +150,7 @@ def _never_reason(ctx: LinkContext, rule: str, findings: list[Finding]) -> str:
             return "the link holds xacro expressions; edit the .xacro source (expand it with xacro to check the numbers)"
         return "a value of the link does not parse; correct it by hand (the fix never guesses numbers)"
     if rule == "mesh-unavailable":
-        return "a mesh of the link cannot be read, so its geometry is unknown; fix the mesh reference first"
+        return "a mesh of the link gives no estimate (see mesh-unavailable), so its geometry is unknown; fix the mesh first"
     reason = ctx.estimate_reason or next((f.message for f in findings if f.rule == rule), "")
     return f"no geometry estimate to take values from ({reason})" if reason else "no geometry estimate to take values from"
 

@@ -215,7 +215,8 @@ _CATALOGUE: tuple[Rule, ...] = (
         "warning",
         "The mesh's size suggests millimetres without scale 0.001 (or the reverse).",
         "The scaled mesh is larger than mesh-max-extent (default 5 m) or smaller than mesh-min-extent "
-        "(default 1 mm) across, or the implied density is off by about 10^9. Set the <mesh> scale "
+        "(default 1 mm) across, or the implied density is off by about a unit factor cubed (10^9 for "
+        "millimetres) and the stated tensor is the mesh's scaled by that factor. Set the <mesh> scale "
         "(0.001 for millimetres). While this holds the estimate of the link is not trusted.",
     ),
     Rule(

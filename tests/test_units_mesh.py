@@ -59,7 +59,7 @@ def run(*args: str, cwd: Path) -> subprocess.CompletedProcess:
                           capture_output=True, text=True, timeout=120)
 
 
-@pytest.mark.parametrize("mass", [0.00012, 0.002])  # steel-like 7500 kg/m³, and 2 g as QA wrote it
+@pytest.mark.parametrize("mass", [0.00012, 0.002])  # steel-like 7500 kg/m³, and 2 g (denser than any metal even once scaled)
 def test_small_millimetre_part_is_mesh_units_suspect(tmp_path, mass):
     mesh = box_stl(tmp_path, "part.stl", PART_MM)
     found = findings(tmp_path, urdf(mesh, mass, cuboid(mass, *PART_M)))
@@ -164,3 +164,12 @@ def test_suggest_scale_needs_the_tensor_to_confirm_the_factor():
     # the factor must also bring the extents into the plausible range
     assert suggest_scale(volume, mass, inertia=cuboid(mass, *PART_M), geometry_at=geometry_at,
                          extent=4e-3) is None
+
+
+def test_density_reason_does_not_ask_for_a_scale_the_mesh_already_has(tmp_path):
+    # the part is the real 4 x 4 x 1 mm once scaled; the 2 kg mass is what is absurd (1.25e8 kg/m³)
+    mesh = box_stl(tmp_path, "part.stl", PART_MM)
+    found = findings(tmp_path, urdf(mesh, 2.0, cuboid(2.0, *PART_M), scale="0.001 0.001 0.001"))
+    (density,) = [f for f in found if f.rule == "density-implausible"]
+    assert density.data["density"] == pytest.approx(2.0 / np.prod(PART_M), rel=1e-6)  # mass / (a·b·c)
+    assert "without scale 0.001" not in density.message and "check the mesh scale" in density.message

@@ -242,7 +242,9 @@ def density_implausible(ctx: LinkContext) -> Iterator[Finding]:
     lo, hi = ctx.settings.density_min, ctx.settings.density_max
     if lo <= rho <= hi:
         return
-    reason = _density_reason(rho, mass, ctx.diagonal, lo, hi)
+    unscaled = not any(b.shape is not None and b.shape.kind == "mesh" and tuple(b.shape.scale) != (1.0, 1.0, 1.0)
+                       for b in ctx.link.bodies)
+    reason = _density_reason(rho, mass, ctx.diagonal, lo, hi, unscaled)
     fits = _tensor_fits_mass(ctx, rho, lo, hi)
     if fits is not None:
         unit = {-3: "grams given as kilograms", 3: "tonnes given as kilograms"}.get(round(np.log10(fits / mass)), "the wrong unit")
@@ -268,13 +270,15 @@ def _tensor_fits_mass(ctx: LinkContext, rho: float, lo: float, hi: float) -> flo
     return None
 
 
-def _density_reason(rho: float, mass: float, size: float, lo: float, hi: float) -> str:
-    """The likely cause, named instead of blaming the density."""
+def _density_reason(rho: float, mass: float, size: float, lo: float, hi: float, unscaled: bool = True) -> str:
+    """The likely cause, named instead of blaming the density (``unscaled``: no mesh of the link has a scale)."""
     typical = 1000.0
     power = round(float(np.log10(rho / typical)) / 3) * 3
     if rho > hi:
         if power >= 9 or size < 0.01:
-            return "the geometry looks far too small: a millimetre mesh without scale 0.001, or a tiny collision proxy"
+            if unscaled:
+                return "the geometry looks far too small: a millimetre mesh without scale 0.001, or a tiny collision proxy"
+            return "the geometry looks far too small: check the mesh scale, or a tiny collision proxy"
         if power >= 3:
             return "the mass looks like grams given as kilograms, or the geometry is a small proxy of the real part"
         return "heavier than tungsten: check the mass and that the geometry is the whole part"
