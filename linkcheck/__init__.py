@@ -3,7 +3,10 @@
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Any
+
+TYPE_CHECKING = False  # not typing.TYPE_CHECKING: importing typing costs ~3 ms of every run
+if TYPE_CHECKING:
+    from typing import Any
 
 __version__ = "0.1.0"
 

@@ -13,14 +13,16 @@ Entries sit beside the mesh cache and share its atomic writes and silent failure
 
 from __future__ import annotations
 
-import hashlib
 import os
 import sys
 from pathlib import Path
-from typing import Any
+
+TYPE_CHECKING = False  # not typing.TYPE_CHECKING: importing typing costs ~3 ms of every run
+if TYPE_CHECKING:
+    from typing import Any
 
 from linkcheck import __version__
-from linkcheck.geometry.cache import content_digest, default_directory, read_json, write_json
+from linkcheck.geometry.cache import default_directory, read_json, short_digest, write_json
 from linkcheck.paths import MODEL_PATH_VARS, PACKAGE_PATH_VARS
 from linkcheck.reads import Reads, settled, stamp
 from linkcheck.severity import FAIL_ON, SEVERITIES
@@ -51,7 +53,7 @@ def code_stamp() -> str:
         except (ImportError, ValueError):
             spec = None
         parts.append(f"{name}:{stamp(spec.origin) if spec is not None and spec.origin else None}")
-    return hashlib.blake2b("|".join(parts).encode(), digest_size=16).hexdigest()
+    return short_digest("|".join(parts).encode())
 
 
 class ResultCache:
@@ -65,15 +67,15 @@ class ResultCache:
     def key(self, path: Path, data: bytes, cli: dict[str, Any], config_files: list[Path]) -> str | None:
         """Everything a file's result is a function of, besides the files it reads (None: unreadable config)."""
         try:
-            configs = [f"{f.resolve()}:{content_digest(f.read_bytes())}" for f in config_files]
+            configs = [f"{f.resolve()}:{short_digest(f.read_bytes())}" for f in config_files]
         except OSError:
             return None  # the check reports it
         env = [f"{v}={os.environ.get(v, '')}" for v in (*PACKAGE_PATH_VARS, *MODEL_PATH_VARS)]
         # the path as given, with the working folder: a symlinked copy finds its own meshes, and
         # messages quote paths the way the user wrote them
-        text = "\n".join([str(FORMAT_VERSION), self._code, str(path), os.getcwd(), content_digest(data),
+        text = "\n".join([str(FORMAT_VERSION), self._code, str(path), os.getcwd(), short_digest(data),
                           repr(sorted(cli.items())), *configs, *env])
-        return hashlib.blake2b(text.encode(), digest_size=20).hexdigest()
+        return short_digest(text.encode())
 
     def get(self, key: str) -> dict[str, Any] | None:
         """The stored ``{"entry", "fatal", "fail_on"}`` when every file it read is as it was, else None."""

@@ -10,12 +10,14 @@ a file modified within ``reads.RACY_SECONDS`` of being indexed is always re-hash
 
 from __future__ import annotations
 
-import hashlib
 import json
 import os
 import time
 from pathlib import Path
-from typing import Any
+
+TYPE_CHECKING = False  # not typing.TYPE_CHECKING: importing typing costs ~3 ms of every run
+if TYPE_CHECKING:
+    from typing import Any
 
 from linkcheck import reads
 
@@ -74,7 +76,20 @@ def prune(directory: Path, now: float | None = None) -> int:
 
 
 def content_digest(data: bytes) -> str:
-    return hashlib.sha1(data).hexdigest()  # fastest here (SHA-NI); collisions are not a threat model for a cache
+    """Hash of a mesh's bytes: SHA-1 is the fastest here (SHA-NI); collisions are not a threat model for a cache."""
+    import hashlib
+
+    return hashlib.sha1(data).hexdigest()
+
+
+def short_digest(text: bytes) -> str:
+    """Hash for cache keys, file names and small files, by the builtin BLAKE2 (hashlib's import loads
+    OpenSSL, ~3 ms of every run, for nothing a cache key needs)."""
+    try:
+        from _blake2 import blake2b
+    except ImportError:  # not CPython
+        from hashlib import blake2b
+    return blake2b(text, digest_size=20).hexdigest()
 
 
 class MeshCache:
@@ -95,7 +110,7 @@ class MeshCache:
         stamp = reads.stamp(path)
         if stamp is None:
             os.stat(path)  # raises the OSError that says why
-        index_file = self._index / (hashlib.blake2b(str(path.resolve()).encode(), digest_size=16).hexdigest() + ".json")
+        index_file = self._index / (short_digest(str(path.resolve()).encode()) + ".json")
         known = read_json(index_file)
         if (
             isinstance(known, dict)
@@ -113,7 +128,7 @@ class MeshCache:
     @staticmethod
     def key(digest: str, scale: tuple[float, float, float], loader: str) -> str:
         text = f"{FORMAT_VERSION}|{digest}|{loader}|{','.join(repr(float(s)) for s in scale)}"
-        return hashlib.blake2b(text.encode(), digest_size=20).hexdigest()
+        return short_digest(text.encode())
 
     # --- entries
     def get(self, key: str) -> dict[str, Any] | None:

@@ -9,7 +9,10 @@ from __future__ import annotations
 import hashlib
 import json
 from pathlib import Path
-from typing import Any
+
+TYPE_CHECKING = False  # not typing.TYPE_CHECKING: importing typing costs ~3 ms of every run
+if TYPE_CHECKING:
+    from typing import Any
 from urllib.parse import quote
 
 from linkcheck import __version__
