@@ -643,3 +643,13 @@ def test_submesh_selects_one_part_and_centers_it(tmp_path: Path) -> None:
     assert np.allclose(centred.solid.props.com, 0, atol=1e-6)
     missing = mesh_estimate(path.name, tmp_path, (1, 1, 1), NO_ENV, None, submesh="nope")
     assert rules(missing) == ["mesh-unavailable"] and "big" in missing.findings[0].message
+
+
+def test_coordinates_too_small_for_float64_products_are_refused_in_words(tmp_path: Path) -> None:
+    # a 1e-160 m cube: its area (1e-320) and volume (1e-480) are below float64's range (IEEE 754, ~2.2e-308)
+    box = trimesh.creation.box((1e-160, 1e-160, 1e-160))
+    (tmp_path / "speck.obj").write_text(trimesh.exchange.obj.export_obj(box, digits=200))
+    est = mesh_estimate("speck.obj", tmp_path)
+    assert est.solid is None
+    (finding,) = [f for f in est.findings if f.rule == "mesh-unavailable"]
+    assert "Error" not in finding.message  # a reason in words, not an exception's name

@@ -44,7 +44,9 @@ def integrate(cols: np.ndarray, origin: np.ndarray, radius: float) -> Integral:
     area2 = float(np.sqrt(np.einsum("ij,ij->j", normals, normals)).sum())
     moment = sum(np.einsum("ij,kj->ik", p + q, pq) for p, q, pq in ((a, b, ab), (b, c, bc), (c, a, ca)))
     scale = max(area2, 1e-300)
-    closure = max(float(np.linalg.norm(normals.sum(axis=1))) / scale, float(np.linalg.norm(moment)) / (scale * max(radius, 1e-300)))
+    lever = scale * max(radius, 1e-300)  # underflows to 0 for coordinates below ~1e-150 m: no closure to judge
+    closure = max(float(np.linalg.norm(normals.sum(axis=1))) / scale,
+                  float(np.linalg.norm(moment)) / lever if lever > 0 else float("inf"))
     if vol != 0.0:
         com_local = first / vol
         second = cov - vol * np.outer(com_local, com_local)
