@@ -1,10 +1,11 @@
 """The files a check read besides the description, so a stored result can be re-verified.
 
-Readers call :func:`note` for each file whose content shaped a result (a resolved mesh and
-the buffers of a .gltf, an included model, a model.config, the package.xml that resolved a URI)
-and :func:`note_incomplete` when the result hangs on something no stamp records: a reference
-that did not resolve (a file added later changes the answer) or a mesh that failed to load
-(perhaps for want of an optional package). Such a check is never reused. Outside
+Readers call :func:`note` for each path whose state shaped a result: the files they read (a
+resolved mesh and the buffers of a .gltf, an included model, a model.config, a package.xml) and
+the candidates they probed and did not find on the way (recorded as absent, so a file that
+appears there later changes the answer). :func:`note_incomplete` marks a result that hangs on
+something no stamp records: a reference that did not resolve (folder scans are not recorded) or
+a mesh that failed to load (perhaps for want of an optional package). Such a check is never reused. Outside
 :func:`recording` both do nothing, which keeps the readers free of cache plumbing.
 """
 
@@ -35,10 +36,10 @@ def settled(found: list[int], at_ns: int) -> bool:
 
 
 class Reads:
-    """Stamps of the files read, by absolute path; ``complete`` is False after a miss."""
+    """Stamps of the paths consulted (None: absent), by absolute path; ``complete`` is False after a miss."""
 
     def __init__(self) -> None:
-        self.stamps: dict[str, list[int]] = {}
+        self.stamps: dict[str, list[int] | None] = {}
         self.complete = True
 
 
@@ -47,13 +48,10 @@ _active: list[Reads] = []
 
 def note(path: str | Path) -> None:
     if _active:
-        reads, key = _active[-1], os.path.abspath(path)
+        # joined, not normalised: "link/../meshes" must stay the folder the kernel finds through a symlink
+        reads, key = _active[-1], os.path.join(os.getcwd(), path)
         if key not in reads.stamps:
-            found = stamp(key)
-            if found is None:
-                reads.complete = False
-            else:
-                reads.stamps[key] = found
+            reads.stamps[key] = stamp(key)
 
 
 def note_incomplete() -> None:

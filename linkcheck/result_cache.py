@@ -92,7 +92,7 @@ class ResultCache:
         if not reads.complete:
             return
         for path, noted in reads.stamps.items():
-            if stamp(path) != noted or not settled(noted, started_ns):
+            if stamp(path) != noted or (noted is not None and not settled(noted, started_ns)):
                 return
         entry = {k: v for k, v in entry.items() if k != "path"}  # the path is shown relative to each run's folder
         write_json(self._file(key), {"key": key, "reads": reads.stamps, "entry": entry, "fatal": fatal,

@@ -7,7 +7,6 @@ starting the interpreter.
 
 from __future__ import annotations
 
-import os
 import time
 from pathlib import Path
 
@@ -91,6 +90,8 @@ class Session:
         for path in expand_paths(paths):
             if not path.exists():
                 problems.append(f"{path}: no such file or folder")
+            elif not path.is_file():  # a FIFO or device: reading it could block forever
+                problems.append(f"{path}: not a regular file")
             elif path.suffix.lower() in mesh_suffixes:
                 files.extend(self._users_of(path))
             else:
@@ -98,12 +99,12 @@ class Session:
         from linkcheck.report.progress import Progress
 
         results = []
-        seen: set[Path] = set()
+        seen: set[tuple[Path, str]] = set()
         progress = Progress(len(files))
         try:
             for path in files:
                 progress.step(str(path))
-                key = Path(os.path.abspath(path))  # not resolved: a symlinked copy finds meshes beside itself
+                key = (path.parent.resolve(), path.name)  # the file's own name: a symlinked copy finds meshes beside itself
                 if key in seen:
                     continue
                 seen.add(key)

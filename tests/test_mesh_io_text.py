@@ -133,3 +133,11 @@ def test_ascii_stl_with_a_latin1_solid_name(tmp_path: Path) -> None:
     est = estimate(path)
     assert est.solid is not None, [f.message for f in est.findings]
     assert_handbook_box(est)
+
+
+def test_gltf_that_is_not_json_is_named_so(tmp_path: Path) -> None:
+    # glTF 2.0 (Khronos spec): a .gltf file is a JSON document
+    (tmp_path / "part.gltf").write_text("{not json")
+    est = mesh_estimate("part.gltf", tmp_path)
+    (finding,) = [f for f in est.findings if f.rule == "mesh-unavailable"]
+    assert "not JSON" in finding.message

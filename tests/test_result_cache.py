@@ -290,3 +290,80 @@ def test_renaming_the_package_is_seen(tmp_path: Path, settled: None, monkeypatch
     after = run(capsys, str(path))
     assert "geometry-note" in after[1]  # now found only by the folder's name, which an info says
     assert after == run(capsys, "--no-cache", str(path))
+
+
+def test_a_file_appearing_at_an_earlier_search_step_is_seen(tmp_path: Path, settled: None, private_cache: Path,
+                                                            monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]) -> None:
+    # README "Meshes": --package-path is searched before ROS_PACKAGE_PATH
+    repo = tmp_path / "repo"
+    (repo / ".git").mkdir(parents=True)
+    monkeypatch.chdir(repo)
+    workspace = tmp_path / "opt" / "robots" / "share" / "ws"  # deeper than the scans beside the repository
+    ros = workspace / "crate_description"
+    (ros / "meshes").mkdir(parents=True)
+    (ros / "package.xml").write_text("<package><name>crate_description</name></package>\n")
+    write_cube(ros / "meshes" / "crate.stl", SIDE)
+    mine = repo / "vendor"
+    mine.mkdir()
+    monkeypatch.setenv("ROS_PACKAGE_PATH", str(workspace))
+    path = repo / "crate.urdf"
+    path.write_text(URDF.format(m=MASS, i=MASS * SIDE**2 / 6, mesh="package://crate_description/meshes/crate.stl"))
+    args = ("--package-path", f"crate_description={mine}", str(path))
+    assert run(capsys, *args)[0] == 0  # found on ROS_PACKAGE_PATH; the --package-path candidate is absent
+    assert len(stored(private_cache)) == 1  # stored, the absent candidate with it
+    (mine / "meshes").mkdir()
+    write_cube(mine / "meshes" / "crate.stl", 2 * SIDE)  # now --package-path finds a cube of twice the side
+    after = run(capsys, *args)
+    assert ("inertia-mismatch", "warning") in rules(after[1])
+    assert after == run(capsys, "--no-cache", *args)
+
+
+def test_a_model_config_added_to_an_included_folder_is_seen(tmp_path: Path, settled: None, private_cache: Path,
+                                                            monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]) -> None:
+    # SDFormat model folders: model.config names the model's SDF file; without it, model.sdf is used
+    monkeypatch.chdir(tmp_path)
+    parts = tmp_path / "parts"
+    parts.mkdir()
+    body = "<sdf version='1.9'><model name='{n}'><link name='{link}'/></model></sdf>"
+    (parts / "model.sdf").write_text(body.format(n="crate", link="body"))
+    (parts / "other.sdf").write_text(body.format(n="crate", link="lid"))
+    world = tmp_path / "yard.sdf"
+    world.write_text("<sdf version='1.9'><model name='yard'><link name='base'/>"
+                     "<include><uri>parts</uri><name>crate</name></include>"
+                     "<joint name='j' type='fixed'><parent>base</parent><child>crate::body</child></joint>"
+                     "</model></sdf>")
+    before = run(capsys, str(world))
+    assert len(stored(private_cache)) == 1
+    (parts / "model.config").write_text("<model><name>crate</name><sdf version='1.9'>other.sdf</sdf></model>")
+    after = run(capsys, str(world))
+    assert after == run(capsys, "--no-cache", str(world))
+    assert after != before  # the joint's child crate::body is gone from other.sdf
+
+
+def test_dot_dot_through_a_symlinked_folder_watches_the_mesh_the_kernel_finds(tmp_path: Path, settled: None,
+                                                                              monkeypatch: pytest.MonkeyPatch,
+                                                                              capsys: pytest.CaptureFixture[str]) -> None:
+    # POSIX path resolution (from memory): "link/../x" follows the symlink first, then "..": it is not "x"
+    real = tmp_path / "real" / "pkg"
+    (real / "urdf").mkdir(parents=True)
+    (real / "meshes").mkdir()
+    write_cube(real / "meshes" / "crate.stl", SIDE)
+    (real / "urdf" / "crate.urdf").write_text(URDF.format(m=MASS, i=MASS * SIDE**2 / 6, mesh="../meshes/crate.stl"))
+    work = tmp_path / "work"
+    (work / "meshes").mkdir(parents=True)
+    write_cube(work / "meshes" / "crate.stl", SIDE)  # a decoy where the lexical "work/link/../meshes" points
+    (work / "link").symlink_to(real / "urdf")
+    monkeypatch.chdir(work)
+    assert run(capsys, "link/crate.urdf")[0] == 0
+    write_cube(real / "meshes" / "crate.stl", 2 * SIDE)
+    after = run(capsys, "link/crate.urdf")
+    assert ("inertia-mismatch", "warning") in rules(after[1])
+    assert after == run(capsys, "--no-cache", "link/crate.urdf")
+
+
+def test_a_fifo_named_like_a_description_is_refused_not_read(tmp_path: Path, monkeypatch: pytest.MonkeyPatch,
+                                                             capsys: pytest.CaptureFixture[str]) -> None:
+    monkeypatch.chdir(tmp_path)
+    os.mkfifo(tmp_path / "pipe.urdf")  # reading it would block until a writer comes
+    assert main(["pipe.urdf"]) == 2
+    assert "pipe.urdf: not a regular file" in capsys.readouterr().err

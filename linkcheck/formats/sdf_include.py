@@ -83,6 +83,7 @@ def _find_include(uri: str, base_dir: Path, search: Any) -> Path | None:
     for c in candidates:
         if not _named(c):
             continue
+        reads.note(c)  # absent, a file, or a folder (whose stamp changes when a model.config appears)
         if c.is_dir():
             found = _model_dir_file(c)
             if found is not None:

@@ -91,6 +91,13 @@ def _read_with_trimesh(path: Path, data: bytes, submesh: str | None = None) -> n
         data = _as_utf8(data)
     elif ext == "ply":
         data = _ply_as_utf8(data)
+    if ext == "gltf":
+        import json
+
+        try:
+            json.loads(data)
+        except ValueError as exc:
+            raise MeshError(f"corrupt '.gltf' file: not JSON ({exc})") from None
     try:
         if ext == "gltf":  # external buffers sit beside it
             resolver = trimesh.resolvers.FilePathResolver(str(path))

@@ -99,6 +99,7 @@ def _resolve_plain(uri: str, path_text: str, base_dir: Path) -> Resolution:
         if not candidate.is_absolute():
             candidate = base_dir / candidate
         tried.append(str(candidate))
+        reads.note(candidate)
         if candidate.is_file():
             return Resolution(candidate, tuple(tried))
     for text in tried:
@@ -132,9 +133,8 @@ def _resolve_package(uri: str, name: str, sub: str, base_dir: Path, search: Sear
             return None
         seen.add(candidate)
         tried.append(f"{candidate} ({how})")
+        reads.note(candidate)
         if candidate.is_file():
-            if "package.xml" in how:
-                reads.note(folder / "package.xml")  # renaming the package must change the answer
             return candidate
         if not folder.is_dir():  # a guessed <prefix>/share/NAME or a mistyped folder: no package there
             if how == "--package-path":
@@ -196,6 +196,7 @@ def _resolve_model(uri: str, name: str, sub: str, base_dir: Path, search: Search
     for root in roots:
         candidate = Path(root) / name / unquote(sub)
         tried.append(str(candidate))
+        reads.note(candidate)
         if candidate.is_file():
             return Resolution(candidate, tuple(tried))
     # Gazebo rewrites package:// to model://, so a ROS package of that name is the same thing.
@@ -232,6 +233,7 @@ def _ancestors_until(start: Path, root: Path) -> list[Path]:
 
 
 def _package_name(folder: Path) -> str | None:
+    reads.note(folder / "package.xml")  # renaming a package, or adding one, must change the answer
     try:
         with open(folder / "package.xml", "rb") as fh:
             head = fh.read(65536)
