@@ -13,8 +13,8 @@ from typing import Any
 import numpy as np
 
 from linkcheck.geometry.solid import Solid, once, primitive_solid, union
-from linkcheck.inertia import MassProperties, combine
 from linkcheck.model import NON_SOLID_SHAPES, Body, Finding, Link, Pose
+from linkcheck.mesh_units import units_verdict
 from linkcheck.settings import Settings
 
 
@@ -47,50 +47,77 @@ class Estimator:
         result = self._estimate(link, role)
         if role == "collision" and result.solid is not None and stated_mass and _solid_bodies(link, "visual"):
             result = self._maybe_prefer_visual(link, result, stated_mass)
-        if result.solid is not None and stated_mass and stated_mass > 0:
-            result = self._mesh_units(link, result, stated_mass)
+        if stated_mass and stated_mass > 0 and np.isfinite(stated_mass):
+            if result.solid is not None:
+                result = self._mesh_units(link, result, stated_mass)
+            else:
+                result = self._extent_units(link, result, stated_mass)
         return result
 
     def _mesh_units(self, link: Link, result: LinkEstimate, mass: float) -> LinkEstimate:
-        """A mesh of plausible size in the wrong units: its density and the stated tensor both say so.
+        """A mesh of plausible size in the wrong units: the density, and the stated tensor or COM, say so.
 
-        The stated mass over the mesh volume is off by about f³ for a unit factor f, and the stated
-        tensor is that of the geometry with its meshes scaled by f, at the stated mass: the block
-        was computed for the real part and the mesh is what is off. Then ``mesh-units-suspect``
-        names the scale, and the estimate is not used (as for a mesh of implausible extent), so no
-        rule blames the tensor or the mass and no fix rewrites the block from the wrong mesh.
+        The stated mass over the volume is off by about f³ for a unit factor f, and the stated block
+        fits the geometry with the mesh (all meshes, or one of several) scaled by f (see
+        ``units.decide_scale``). Then ``mesh-units-suspect`` names the scale, and the estimate is not
+        used (as for a mesh of implausible extent), so no rule blames the tensor or the mass and no
+        fix rewrites the block from the wrongly scaled mesh. When only the density speaks (the
+        tensor is a filler, impossible or missing) the finding says the mass may be what is wrong.
         """
         meshes = [b for b, _ in result.volumes if b.shape is not None and b.shape.kind == "mesh"]
-        inertial = link.inertial
-        solid = result.solid
-        if not meshes or inertial is None or inertial.auto or solid is None or not np.isfinite(mass):
+        if not meshes or link.inertial is None or link.inertial.auto or result.solid is None:
             return result
-        tensor = inertial.mass_properties().inertia
-        if not (np.all(np.isfinite(tensor)) and np.trace(tensor) > 0):
+        is_mesh = {id(b) for b in meshes}
+        parts = []
+        for body, _ in result.volumes:
+            mesh = self._meshes.get(_mesh_key(body.shape)) if id(body) in is_mesh else None
+            parts.append((body, mesh.solid if mesh is not None else primitive_solid(body.shape)))
+        # all meshes in one unit, else one mesh of several (the largest first)
+        largest = sorted(((b, v) for b, v in result.volumes if id(b) in is_mesh), key=lambda bv: -bv[1])
+        options = [meshes] + ([[b] for b, _ in largest] if len(meshes) > 1 else [])
+        found = units_verdict(link, parts, options, mass, False, self.settings)
+        if found is None:
             return result
-        from linkcheck.geometry.units import suggest_scale
-
-        own = {id(b): self._meshes[_mesh_key(b.shape)].solid for b in meshes}
-        extent = max(float((s.points.max(axis=0) - s.points.min(axis=0)).max()) for s in own.values())
-        settings = self.settings
-
-        def geometry_at(f: float) -> MassProperties:
-            parts = []
-            for body, _ in result.volumes:
-                base = _scaled_props(own[id(body)].props, f) if id(body) in own else primitive_solid(body.shape).props
-                parts.append(base.transformed(body.pose.rotation, body.pose.translation))
-            return combine(parts)
-
-        factor = suggest_scale(solid.volume, mass, (settings.density_min, settings.density_max), inertia=tensor,
-                               geometry_at=geometry_at, tolerance=settings.units_tolerance, extent=extent,
-                               extent_range=(settings.mesh_min_extent, settings.mesh_max_extent))
-        if factor is None:
-            return result
-        notes = tuple(_units_note(link, body, factor, mass, solid.volume, geometry_at(factor).mass, tensor,
-                                  solid.props.with_mass(mass).inertia, settings) for body in meshes)
-        uris = ", ".join(f"'{b.shape.uri}'" for b in meshes)  # type: ignore[union-attr]
-        reason = f"mesh {uris} looks scaled in the wrong units (see mesh-units-suspect), so its estimate is not used"
+        notes, chosen, untrusted_mass = found
+        uris = ", ".join(f"'{b.shape.uri}'" for b in chosen)  # type: ignore[union-attr]
+        why = ", or the mass is wrong" if untrusted_mass else ""
+        reason = f"mesh {uris} looks scaled in the wrong units{why} (see mesh-units-suspect), so the link's estimate is not used"
         return LinkEstimate(None, result.source, reason, result.findings + notes)
+
+    def _extent_units(self, link: Link, result: LinkEstimate, mass: float) -> LinkEstimate:
+        """A mesh of implausible size: let the stated mass, tensor and COM choose its unit factor.
+
+        The mesh's own finding knows only its size, and suggests the first factor that brings it
+        into range (0.001 for anything over 5 m). A 200 mm part in inches reads 7.874 m; its stated
+        block fits 0.0254, not 0.001. The finding is replaced when the block says more.
+        """
+        if result.source is None or link.inertial is None or link.inertial.auto:
+            return result
+        parts, suspects = [], []
+        for body in link.bodies_of(result.source):
+            if body.shape is None:
+                return result
+            if body.shape.kind in NON_SOLID_SHAPES:
+                continue
+            solid, _, _ = self._body_solid(body)
+            if solid is None and body.shape.kind == "mesh":
+                mesh = self._meshes[_mesh_key(body.shape)]
+                if mesh.solid is None:
+                    return result  # unreadable, not merely of implausible size
+                solid = mesh.solid
+                suspects.append(body)
+            if solid is None:
+                return result
+            parts.append((body, solid))
+        if not suspects:
+            return result
+        found = units_verdict(link, parts, [suspects], mass, True, self.settings)
+        if found is None:
+            return result
+        uris = {b.shape.uri for b in suspects}  # type: ignore[union-attr]
+        kept = tuple(f for f in result.findings
+                     if not (f.rule == "mesh-units-suspect" and (f.data or {}).get("uri") in uris))
+        return replace(result, findings=kept + found[0])
 
     def _maybe_prefer_visual(self, link: Link, collision: LinkEstimate, mass: float) -> LinkEstimate:
         """A collision proxy far smaller than the visual geometry gives absurd densities: use the visual."""
@@ -199,43 +226,6 @@ def density_mass(volumes: tuple[tuple[Body, float], ...], link_density: float | 
     default = link_density if link_density else SDF_DEFAULT_DENSITY
     rhos = [b.density if b.density is not None else default for b, _ in volumes]
     return sum(r * v for r, (_, v) in zip(rhos, volumes)), tuple(sorted(set(rhos)))
-
-
-def _scaled_props(props: MassProperties, f: float) -> MassProperties:
-    """A unit-density solid with its coordinates multiplied by ``f`` about its frame's origin."""
-    return MassProperties(props.mass * f**3, np.asarray(props.com, dtype=float) * f, np.asarray(props.inertia, dtype=float) * f**5)
-
-
-def _units_note(link: Link, body: Body, factor: float, mass: float, volume: float, volume_at: float,
-                tensor: np.ndarray, estimated: np.ndarray, settings: Settings) -> Finding:
-    """The mesh-units-suspect finding of one mesh of ``link`` whose coordinates look off by ``factor``."""
-    from linkcheck.checks import words
-    from linkcheck.geometry.units import UNIT_WORDS
-
-    shape = body.shape
-    assert shape is not None
-    lo, hi = settings.density_min, settings.density_max
-    scale = [s * factor for s in shape.scale]
-    text = " ".join(f"{s:.6g}" for s in scale)
-    rho, rho_at = mass / volume, mass / volume_at
-    ratio = float(np.trace(tensor) / np.trace(estimated))
-    if lo <= rho_at <= hi:
-        after = f"a plausible {words.num(rho_at)} kg/m³"
-    else:
-        side = "above" if rho_at > hi else "below"
-        after = (f"{words.num(rho_at)} kg/m³, still {side} the plausible {words.num(lo)}–{words.num(hi)}: "
-                 "check the mass as well")
-    return Finding(
-        "mesh-units-suspect",
-        "warning",
-        f"link '{link.name}': mesh '{shape.uri}' looks like {UNIT_WORDS.get(factor, 'the wrong unit')}: "
-        f"{words.kg(mass)} in its {words.num(volume * 1e6)} cm³ is {words.num(rho)} kg/m³, and the stated tensor "
-        f"({words.num(ratio)}x the mesh's) is that of the geometry scaled by {factor:g} at the stated mass; "
-        f"scale=\"{text}\" makes the density {after}. Until the scale is fixed the link's estimate is not used",
-        link.name,
-        body.line,
-        data={"uri": shape.uri, "factor": factor, "scale": scale, "density": rho, "scaled_density": rho_at},
-    )
 
 
 def _mesh_key(shape: Any) -> tuple:

@@ -213,11 +213,17 @@ _CATALOGUE: tuple[Rule, ...] = (
     Rule(
         "mesh-units-suspect",
         "warning",
-        "The mesh's size suggests millimetres without scale 0.001 (or the reverse).",
+        "The mesh's size or the stated block suggests a mesh in other units (mm, cm, inch) without its scale.",
         "The scaled mesh is larger than mesh-max-extent (default 5 m) or smaller than mesh-min-extent "
         "(default 1 mm) across, or the implied density is off by about a unit factor cubed (10^9 for "
-        "millimetres) and the stated tensor is the mesh's scaled by that factor. Set the <mesh> scale "
-        "(0.001 for millimetres). While this holds the estimate of the link is not trusted.",
+        "millimetres). The scale offered is the unit factor that brings the mesh into range and, when "
+        "the link states a mass, makes the density plausible and fits the stated tensor and centre of "
+        "mass (a 200 mm part in inches gets 0.0254, not 0.001). When the stated tensor cannot tell "
+        "(a filler, impossible, or zero) the message says that either the mesh is in that unit or the "
+        "mass is wrong; when the tensor fits the scale but the density is still 1000x off it names a "
+        "mass in grams (or tonnes) as well. With several meshes on a link, the one mesh a unit factor "
+        "explains is named. Set the <mesh> scale (0.001 for millimetres). While this holds the estimate "
+        "of the link is not used: nothing blames or rewrites its tensor or mass.",
     ),
     Rule(
         "massless-moving-link",

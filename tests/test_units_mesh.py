@@ -1,8 +1,10 @@
 """A mesh in the wrong units whose extents still look plausible: the density and the tensor tell.
 
 References: the handbook formula of a solid cuboid, I_xx = m (b² + c²)/12 (and cyclic), for every
-stated and expected tensor; trimesh.creation.box (a general-purpose library) for the meshes, so
-the mesh volume is the box's a·b·c.
+stated and expected tensor, moved between points by the parallel axis theorem
+I_o = I_c + m (|d|² E − d dᵀ); trimesh.creation.box (a general-purpose library) for the meshes, so
+the mesh volume is the box's a·b·c; unit factors: 1 in = 0.0254 m exactly (the international
+inch), 1 cm = 0.01 m, 1 mm = 0.001 m.
 """
 
 from __future__ import annotations
@@ -173,3 +175,227 @@ def test_density_reason_does_not_ask_for_a_scale_the_mesh_already_has(tmp_path):
     (density,) = [f for f in found if f.rule == "density-implausible"]
     assert density.data["density"] == pytest.approx(2.0 / np.prod(PART_M), rel=1e-6)  # mass / (a·b·c)
     assert "without scale 0.001" not in density.message and "check the mesh scale" in density.message
+
+
+# --- the stated tensor cannot confirm, the stated block in grams, several meshes, meshes over 5 m
+
+INCH, CM, MM = 0.0254, 0.01, 0.001  # exact unit factors
+STEEL, ALUMINIUM = 7850.0, 2700.0
+
+
+def corner_box_stl(folder: Path, name: str, extents: tuple[float, float, float]) -> str:
+    """trimesh.creation.box moved so that the box spans [0, a] x [0, b] x [0, c] (centroid a/2, b/2, c/2)."""
+    box = trimesh.creation.box(extents=extents)
+    box.apply_translation(np.asarray(extents, dtype=float) / 2)
+    box.export(folder / name)
+    return name
+
+
+def block(meshes: list[str], mass: float, com, tensor: np.ndarray) -> str:
+    """A URDF link with the full stated tensor and one collision per mesh."""
+    t = np.asarray(tensor, dtype=float)
+    entries = " ".join(f'{n}="{float(t[i, j])!r}"' for n, i, j in
+                       (("ixx", 0, 0), ("ixy", 0, 1), ("ixz", 0, 2), ("iyy", 1, 1), ("iyz", 1, 2), ("izz", 2, 2)))
+    cols = "".join(f'    <collision><geometry><mesh filename="{m}"/></geometry></collision>\n' for m in meshes)
+    xyz = " ".join(f"{float(v)!r}" for v in com)
+    return (f'<robot name="r">\n  <link name="part">\n    <inertial>\n      <origin xyz="{xyz}" rpy="0 0 0"/>\n'
+            f'      <mass value="{float(mass)!r}"/>\n      <inertia {entries}/>\n    </inertial>\n{cols}  </link>\n</robot>\n')
+
+
+def steiner(parts: list[tuple[float, np.ndarray, np.ndarray]]) -> tuple[float, np.ndarray, np.ndarray]:
+    """(mass, COM, tensor about the COM) of bodies given as (mass, centroid, tensor about the centroid)."""
+    total = sum(m for m, _, _ in parts)
+    com = sum(m * np.asarray(c, dtype=float) for m, c, _ in parts) / total
+    tensor = np.zeros((3, 3))
+    for m, c, i in parts:
+        d = np.asarray(c, dtype=float) - com
+        tensor += i + m * (d @ d * np.eye(3) - np.outer(d, d))
+    return total, com, tensor
+
+
+def diff_hunks(tmp_path: Path, text: str) -> str:
+    (tmp_path / "r.urdf").write_text(text)
+    p = run("--diff", "r.urdf", cwd=tmp_path)
+    return "\n".join(line for line in p.stdout.splitlines() if line[:1] in "+-" and line[:3] not in ("+++", "---"))
+
+
+#: The 4 x 3 x 2 mm steel part, exported in millimetres with its corner at the origin (4 m across).
+PIN_M = (0.004, 0.003, 0.002)
+PIN_MM = (4.0, 3.0, 2.0)
+PIN_MASS = STEEL * float(np.prod(PIN_M))  # 1.884e-4 kg
+
+
+@pytest.mark.parametrize("tensor", [
+    np.eye(3) * 1e-9,  # equal moments: a filler
+    np.diag([1e-9, 1e-9, 5e-9]),  # triangle inequality broken: no physical body
+    np.zeros((3, 3)),  # nothing stated
+])
+def test_millimetre_part_whose_tensor_cannot_tell_is_mesh_units_suspect(tmp_path, tensor):
+    mesh = corner_box_stl(tmp_path, "pin.stl", PIN_MM)
+    com = np.asarray(PIN_M) / 2  # the real part's centroid
+    text = block([mesh], PIN_MASS, com, tensor)
+    found = findings(tmp_path, text)
+    rules = {f.rule for f in found}
+    assert "mesh-units-suspect" in rules and "estimate-unavailable" in rules
+    assert not rules & {"density-implausible", "com-offset", "inertia-placeholder", "inertia-mismatch"}
+    (units,) = [f for f in found if f.rule == "mesh-units-suspect"]
+    assert units.data["factor"] == pytest.approx(MM) and units.data["evidence"] == "density"
+    assert 'scale="0.001 0.001 0.001"' in units.message and "or the mass is wrong" in units.message
+    assert units.data["scaled_density"] == pytest.approx(STEEL, rel=1e-6)  # the real part's steel
+    hunks = diff_hunks(tmp_path, text)
+    assert "<inertia" not in hunks and "<origin" not in hunks  # no COM or tensor from the 4 m mesh
+
+
+def test_centred_millimetre_part_with_a_filler_tensor_by_the_density_alone(tmp_path):
+    # centred mesh, COM at the origin: the COM cannot tell either, the density alone names the scale
+    mesh = box_stl(tmp_path, "part.stl", PART_MM)
+    mass = 0.00012  # 7500 kg/m³ over the real 4 x 4 x 1 mm
+    found = findings(tmp_path, urdf(mesh, mass, np.eye(3) * 1e-9))
+    (units,) = [f for f in found if f.rule == "mesh-units-suspect"]
+    assert units.data["factor"] == pytest.approx(MM) and units.data["evidence"] == "density"
+    assert "density-implausible" not in {f.rule for f in found}
+
+
+def test_round_filler_mass_with_a_filler_tensor_stays_density_implausible(tmp_path):
+    # a real 0.5 x 0.4 x 0.3 m part with 1e-4 kg: at 0.01 the density would be 1667 kg/m³, but a
+    # sub-gram power of ten with a filler tensor and no COM behind the scale is a filler, not a unit
+    mesh = box_stl(tmp_path, "case.stl", (0.5, 0.4, 0.3))
+    found = findings(tmp_path, urdf(mesh, 1e-4, np.eye(3) * 1e-9))
+    rules = {f.rule for f in found}
+    assert "density-implausible" in rules and "inertia-placeholder" in rules
+    assert "mesh-units-suspect" not in rules and "estimate-unavailable" not in rules
+
+
+def test_filler_mass_no_unit_factor_explains_stays_density_implausible(tmp_path):
+    # a real 4 m beam (0.16 m³) with 4.8e-6 kg: 3e-5 kg/m³, and f³ x that is plausible for no
+    # factor (mm 3e4, cm 30, inch 1.8 kg/m³): the filler is named, nothing is rescaled
+    dims = (4.0, 0.2, 0.2)
+    mesh = box_stl(tmp_path, "beam.stl", dims)
+    found = findings(tmp_path, urdf(mesh, 4.8e-6, np.eye(3) * 1e-9))
+    rules = {f.rule for f in found}
+    assert "density-implausible" in rules and "mesh-units-suspect" not in rules
+    (density,) = [f for f in found if f.rule == "density-implausible"]
+    assert density.data["density"] == pytest.approx(4.8e-6 / np.prod(dims), rel=1e-6)
+
+
+def test_unscaled_mesh_a_thousand_times_too_small_blames_no_scale(tmp_path):
+    # a 2 x 1 x 0.5 m part whose mesh reads 2 mm across with no scale attribute at all
+    dims = (2.0, 1.0, 0.5)
+    mesh = box_stl(tmp_path, "arm.stl", tuple(x * MM for x in dims))
+    mass = ALUMINIUM * float(np.prod(dims))
+    (units,) = [f for f in findings(tmp_path, urdf(mesh, mass, cuboid(mass, *dims))) if f.rule == "mesh-units-suspect"]
+    assert units.data["factor"] == pytest.approx(1e3) and 'scale="1000 1000 1000"' in units.message
+    assert "a scale 0.001 too many" not in units.message
+
+
+def test_real_three_metre_beam_with_a_correct_block_is_clean(tmp_path):
+    dims = (3.0, 0.2, 0.2)
+    mesh = box_stl(tmp_path, "beam.stl", dims)
+    mass = ALUMINIUM * float(np.prod(dims))
+    assert findings(tmp_path, urdf(mesh, mass, cuboid(mass, *dims))) == []
+
+
+def test_real_four_millimetre_part_in_metres_with_a_correct_block_is_clean(tmp_path):
+    mesh = box_stl(tmp_path, "part.stl", PART_M)
+    mass = STEEL * float(np.prod(PART_M))
+    assert findings(tmp_path, urdf(mesh, mass, cuboid(mass, *PART_M))) == []
+
+
+def test_block_in_grams_on_a_millimetre_mesh_is_named_and_not_rescaled(tmp_path):
+    # mass 0.1884 is the part's 0.1884 g written as kg; the tensor is the real part's at that mass
+    mesh = corner_box_stl(tmp_path, "pin.stl", PIN_MM)
+    grams = PIN_MASS * 1e3
+    text = block([mesh], grams, np.asarray(PIN_M) / 2, cuboid(grams, *PIN_M))
+    found = findings(tmp_path, text)
+    rules = {f.rule for f in found}
+    assert "mesh-units-suspect" in rules
+    assert not rules & {"inertia-units-suspect", "density-implausible", "com-offset", "inertia-mismatch"}
+    (units,) = [f for f in found if f.rule == "mesh-units-suspect"]
+    assert units.data["factor"] == pytest.approx(MM) and units.data["evidence"] == "tensor"
+    assert units.data["mass_factor"] == pytest.approx(1e-3)
+    assert "grams given as kilograms" in units.message and 'scale="0.001 0.001 0.001"' in units.message
+    assert units.data["scaled_density"] == pytest.approx(STEEL * 1e3, rel=1e-6)
+    assert "<inertia" not in diff_hunks(tmp_path, text)  # was: the tensor multiplied by 1e6
+
+
+def test_one_millimetre_mesh_beside_a_metre_mesh_is_named_alone(tmp_path):
+    plate_dims = (0.2, 0.1, 0.05)
+    plate = box_stl(tmp_path, "plate.stl", plate_dims)  # metres, centred at the origin
+    pin = corner_box_stl(tmp_path, "pin.stl", PIN_MM)  # millimetres read as metres
+    plate_mass = ALUMINIUM * float(np.prod(plate_dims))
+    mass, com, tensor = steiner([(plate_mass, np.zeros(3), cuboid(plate_mass, *plate_dims)),
+                                 (PIN_MASS, np.asarray(PIN_M) / 2, cuboid(PIN_MASS, *PIN_M))])
+    text = block([plate, pin], mass, com, tensor)
+    found = findings(tmp_path, text)
+    rules = sorted(f.rule for f in found)
+    assert rules == ["estimate-unavailable", "mesh-units-suspect"]  # no tonnes, mismatch or com-offset
+    (units,) = [f for f in found if f.rule == "mesh-units-suspect"]
+    assert units.data["uri"] == "pin.stl" and units.data["factor"] == pytest.approx(MM)
+    assert units.data["evidence"] == "tensor" and units.line == 9  # the pin's <collision> line
+    assert units.data["scaled_density"] == pytest.approx(mass / (np.prod(plate_dims) + np.prod(PIN_M)), rel=1e-6)
+    hunks = diff_hunks(tmp_path, text)
+    assert "<inertia" not in hunks and "<origin" not in hunks
+
+
+def _over_five_metres(tmp_path: Path, real: tuple[float, float, float], unit: float, density: float):
+    """A real part of ``real`` metres exported in ``unit`` (read as metres), with its correct block."""
+    mesh = box_stl(tmp_path, "big.stl", tuple(x / unit for x in real))
+    mass = density * float(np.prod(real))
+    return mesh, mass
+
+
+@pytest.mark.parametrize("real, unit, density", [
+    ((0.2, 0.1, 0.05), INCH, ALUMINIUM),  # 200 mm in inches: 7.874 m across
+    ((0.6, 0.3, 0.2), CM, STEEL),  # 600 mm in centimetres: 60 m across
+])
+def test_mesh_over_five_metres_gets_the_unit_its_block_fits(tmp_path, real, unit, density):
+    mesh, mass = _over_five_metres(tmp_path, real, unit, density)
+    found = findings(tmp_path, urdf(mesh, mass, cuboid(mass, *real)))
+    (units,) = [f for f in found if f.rule == "mesh-units-suspect"]
+    assert units.data["factor"] == pytest.approx(unit) and units.data["evidence"] == "tensor"
+    text = " ".join(f"{unit:.6g}" for _ in range(3))
+    assert f'scale="{text}"' in units.message and "0.001 0.001" not in units.message
+    assert units.data["extent"] == pytest.approx(max(real) / unit, rel=1e-6)
+    assert units.data["scaled_density"] == pytest.approx(density, rel=1e-6)
+    assert "estimate-unavailable" in {f.rule for f in found}
+
+
+def test_mesh_over_five_metres_by_the_density_alone_lists_what_else_fits(tmp_path):
+    # 600 mm of steel in centimetres with the identity for a tensor: 7850 kg/m³ at 0.01, and the
+    # density allows inches as well (7850 x (0.01/0.0254)³ = 479 kg/m³); millimetres give 7.85e6
+    mesh, mass = _over_five_metres(tmp_path, (0.6, 0.3, 0.2), CM, STEEL)
+    (units,) = [f for f in findings(tmp_path, urdf(mesh, mass, np.eye(3))) if f.rule == "mesh-units-suspect"]
+    assert units.data["factor"] == pytest.approx(CM) and units.data["evidence"] == "density"
+    assert units.data["alternatives"] == [pytest.approx(INCH)]
+    assert "or the mass is wrong" in units.message
+
+
+def test_mesh_over_five_metres_keeps_the_extent_only_hint_when_nothing_else_is_known(tmp_path):
+    mesh, _ = _over_five_metres(tmp_path, (0.6, 0.3, 0.2), CM, STEEL)
+    est = mesh_estimate(mesh, tmp_path)  # no link, no mass: the size alone
+    (units,) = [f for f in est.findings if f.rule == "mesh-units-suspect"]
+    assert units.data["factor"] == pytest.approx(MM) and 'scale="0.001 0.001 0.001"' in units.message
+    # a filler block no factor makes plausible: still the size alone
+    found = findings(tmp_path, urdf(mesh, 1e-3, np.eye(3) * 1e-9))
+    (units,) = [f for f in found if f.rule == "mesh-units-suspect"]
+    assert units.data["factor"] == pytest.approx(MM) and "evidence" not in units.data
+
+
+def test_both_paths_ask_the_one_decision_function(tmp_path, monkeypatch):
+    from linkcheck.geometry import units
+
+    calls: list[dict] = []
+    real = units.decide_scale
+
+    def spy(*args, **kwargs):
+        calls.append(kwargs)
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(units, "decide_scale", spy)
+    mesh, mass = _over_five_metres(tmp_path, (0.2, 0.1, 0.05), INCH, ALUMINIUM)
+    mesh_estimate(mesh, tmp_path)  # the extent path (no mass)
+    assert len(calls) == 1 and calls[0].get("inertia") is None
+    (units_found,) = [f for f in findings(tmp_path, urdf(mesh, mass, cuboid(mass, 0.2, 0.1, 0.05)))
+                      if f.rule == "mesh-units-suspect"]
+    assert any(c.get("inertia") is not None for c in calls[1:])  # the link path, with the stated block
+    assert units_found.data["factor"] == pytest.approx(INCH)

@@ -242,9 +242,9 @@ def density_implausible(ctx: LinkContext) -> Iterator[Finding]:
     lo, hi = ctx.settings.density_min, ctx.settings.density_max
     if lo <= rho <= hi:
         return
-    unscaled = not any(b.shape is not None and b.shape.kind == "mesh" and tuple(b.shape.scale) != (1.0, 1.0, 1.0)
-                       for b in ctx.link.bodies)
-    reason = _density_reason(rho, mass, ctx.diagonal, lo, hi, unscaled)
+    meshes = [b for b in ctx.link.bodies if b.shape is not None and b.shape.kind == "mesh"]
+    unscaled = not any(tuple(b.shape.scale) != (1.0, 1.0, 1.0) for b in meshes)  # type: ignore[union-attr]
+    reason = _density_reason(rho, mass, ctx.diagonal, lo, hi, unscaled, bool(meshes))
     fits = _tensor_fits_mass(ctx, rho, lo, hi)
     if fits is not None:
         unit = {-3: "grams given as kilograms", 3: "tonnes given as kilograms"}.get(round(np.log10(fits / mass)), "the wrong unit")
@@ -270,22 +270,33 @@ def _tensor_fits_mass(ctx: LinkContext, rho: float, lo: float, hi: float) -> flo
     return None
 
 
-def _density_reason(rho: float, mass: float, size: float, lo: float, hi: float, unscaled: bool = True) -> str:
-    """The likely cause, named instead of blaming the density (``unscaled``: no mesh of the link has a scale)."""
+def _density_reason(rho: float, mass: float, size: float, lo: float, hi: float, unscaled: bool = True,
+                    meshes: bool = True) -> str:
+    """The likely cause, named instead of blaming the density (``unscaled``: no mesh of the link has a
+    scale; ``meshes``: the link has a mesh at all)."""
+    from linkcheck.geometry.units import filler_mass
+
     typical = 1000.0
     power = round(float(np.log10(rho / typical)) / 3) * 3
     if rho > hi:
         if power >= 9 or size < 0.01:
-            if unscaled:
-                return "the geometry looks far too small: a millimetre mesh without scale 0.001, or a tiny collision proxy"
-            return "the geometry looks far too small: check the mesh scale, or a tiny collision proxy"
+            # too small a geometry: a unit scale too many (a metre mesh given 0.001), never a missing one
+            if not meshes or unscaled:
+                return "the geometry looks far too small: a tiny collision proxy" + (", or a mesh in the wrong units" if meshes else "")
+            return "the geometry looks far too small: check the mesh scale (a metre mesh given 0.001?), or a tiny collision proxy"
         if power >= 3:
             return "the mass looks like grams given as kilograms, or the geometry is a small proxy of the real part"
         return "heavier than tungsten: check the mass and that the geometry is the whole part"
     if mass < 1e-3:
-        return f"the mass ({words.kg(mass)}) looks like a sub-gram filler value"
+        if filler_mass(mass) or not meshes:
+            return f"the mass ({words.kg(mass)}) looks like a sub-gram filler value"
+        return f"a sub-gram mass ({words.kg(mass)}) on geometry this large: a filler value, or a mesh in the wrong units"
     if power <= -9 or size > 10:
-        return "the geometry looks far too large: metres scaled as millimetres, or a scale applied twice"
+        if not meshes:
+            return "the geometry looks far too large: a collision proxy much larger than the part"
+        if unscaled:
+            return "the geometry looks far too large: a millimetre mesh without scale 0.001, or a proxy much larger than the part"
+        return "the geometry looks far too large: check the mesh scale, or a proxy much larger than the part"
     if power <= -3:
         return "the mass looks like kilograms given as tonnes, or the geometry is much larger than the part"
     return "lighter than foam: a filler mass, or a hollow part modelled as solid"
