@@ -537,15 +537,161 @@ def test_all_bodies_inverted_are_flipped_as_a_whole(tmp_path: Path, hollow: bool
     assert_matches_trimesh(est, f32_mesh(right), rtol=1e-9)  # trimesh on the outward-wound mesh
 
 
-def test_undecidable_bodies_give_no_estimate(tmp_path: Path) -> None:
-    # an inward box in the hole of a ring: inside the ring's bounding box, so it counts as a cavity,
-    # but nothing surrounds it, and body minus ring has a negative moment of inertia
+def ring_and_box_in_its_hole() -> tuple[np.ndarray, trimesh.Trimesh]:
+    """A ring with an inward box in its hole (inside the ring's bounding box, but not inside the
+    ring), and the same two wound outward."""
     ring = trimesh.creation.annulus(r_min=0.3, r_max=0.35, height=0.1, sections=64)
     inner = trimesh.creation.box((0.4, 0.4, 0.1))
+    right = trimesh.util.concatenate([ring, inner.copy()])
     inner.invert()
-    est = estimate(write_binary_stl(tmp_path / "ring.stl", trimesh.util.concatenate([ring, inner]).triangles))
+    return trimesh.util.concatenate([ring, inner]).triangles, right
+
+
+def test_body_in_a_rings_hole_is_no_cavity(tmp_path: Path) -> None:
+    tris, right = ring_and_box_in_its_hole()
+    est = estimate(write_binary_stl(tmp_path / "ring.stl", tris))
+    assert rules(est) == ["mesh-inside-out"] and "1 of 2 bodies was" in est.findings[0].message
+    assert_matches_trimesh(est, f32_mesh(right))  # trimesh: ring + box, both outward
+
+
+def test_undecidable_bodies_give_no_estimate(tmp_path: Path, monkeypatch) -> None:
+    import linkcheck.geometry.mesh_repair as repair_module
+
+    # no budget for the exact test: the boxes decide, the box in the hole counts as a cavity, and
+    # box minus ring has a negative moment of inertia, so there is no estimate rather than a wrong one
+    monkeypatch.setattr(repair_module, "NESTING_BUDGET", 0)
+    tris, _ = ring_and_box_in_its_hole()
+    est = estimate(write_binary_stl(tmp_path / "ring.stl", tris))
     assert est.solid is None and not est.trusted
     assert rules(est) == ["mesh-unavailable"] and "cannot be decided" in est.findings[0].message
+    assert "solid angles" in est.findings[0].message  # says why the boxes decided
+
+
+@pytest.mark.parametrize(
+    "placed",
+    [
+        [(0.25, 0.0, False), (0.0625, 0.5, True)],  # a small one inverted: the integral is still a possible solid
+        [(0.25, 0.0, False), (0.03125, 1.0, True)],  # a small one far away
+        [(0.125, -0.5, False), (0.125, 0.0, True), (0.125, 0.5, False)],  # the middle of a row
+        [(0.25, 0.0, True), (0.0625, 0.5, False)],  # mostly inverted: flipping the whole would invert the small one
+    ],
+)
+def test_inverted_body_the_integral_does_not_betray_is_flipped(tmp_path: Path, placed) -> None:
+    tris, right = cubes(*placed)
+    est = estimate(write_binary_stl(tmp_path / "bodies.stl", tris))
+    assert rules(est) == ["mesh-inside-out"] and est.trusted
+    assert f"1 of {len(placed)} bodies was wound inside-out" in est.findings[0].message
+    assert_matches_trimesh(est, right, rtol=1e-9)  # trimesh on the same cubes all wound outward
+    volume, com_x, inertia = handbook_cubes([(a, x) for a, x, _ in placed])  # handbook cube + parallel axes
+    assert est.solid.volume == pytest.approx(volume, rel=1e-9)
+    assert np.allclose(est.solid.props.com, (com_x, 0, 0), rtol=0, atol=1e-9)
+    assert np.allclose(est.solid.props.inertia, inertia, rtol=0, atol=1e-9 * inertia.max())
+
+
+def test_inverted_body_off_the_centre_line_is_seen_at_the_extremes(tmp_path: Path) -> None:
+    # diagonal from the big cube: the line through the centroid misses it; its vertices are the
+    # mesh's largest x and y, and the triangles around them face inward
+    big = trimesh.creation.box((0.25, 0.25, 0.25))
+    small = trimesh.creation.box((0.0625, 0.0625, 0.0625)).apply_translation((0.375, 0.375, 0.0))
+    right = trimesh.util.concatenate([big, small.copy()])
+    est = estimate(write_binary_stl(tmp_path / "diag.stl", trimesh.util.concatenate([big, small.invert()]).triangles))
+    assert rules(est) == ["mesh-inside-out"] and "1 of 2 bodies was" in est.findings[0].message
+    assert_matches_trimesh(est, right, rtol=1e-9)  # trimesh on both cubes wound outward
+
+
+def nested_boxes(*inverted: str, far: bool = False) -> tuple[np.ndarray, trimesh.Trimesh]:
+    """A box with a cavity holding a smaller box (an island), as stored with the named shells
+    wound the wrong way (``far``: plus a separate inverted cube), and as wound right."""
+    shells = {"outer": trimesh.creation.box((1.0, 0.5, 0.25)), "cavity": trimesh.creation.box((0.5, 0.25, 0.125)),
+              "core": trimesh.creation.box((0.25, 0.125, 0.0625))}
+    shells["core"].apply_translation((0.0625, 0.0, 0.0))  # off-centre: the COM moves
+    shells["cavity"].invert()  # a cavity faces into its hole
+    if far:
+        shells["far"] = trimesh.creation.box((0.125, 0.125, 0.125)).apply_translation((2.0, 0.0, 0.0))
+    right = trimesh.util.concatenate([m.copy() for m in shells.values()])
+    for name in (*inverted, *(["far"] if far else [])):
+        shells[name].invert()
+    return trimesh.util.concatenate(list(shells.values())).triangles, right
+
+
+@pytest.mark.parametrize("inverted, far", [(("outer",), False), (("core",), False), (("cavity",), True)])
+def test_nested_shells_are_oriented_by_depth(tmp_path: Path, inverted, far: bool) -> None:
+    # outer (depth 0) faces out, the cavity (inside one surface) in, the core (inside two) out;
+    # a cavity wound outward is seen once something routes the mesh to the topology pass
+    tris, right = nested_boxes(*inverted, far=far)
+    est = estimate(write_binary_stl(tmp_path / "nested.stl", tris))
+    bodies = 4 if far else 3
+    assert rules(est) == ["mesh-inside-out"]
+    assert f"{len(inverted) + far} of {bodies} bodies" in est.findings[0].message
+    assert_matches_trimesh(est, right, rtol=1e-9)  # trimesh: outer - cavity + core (+ far)
+    volume = 0.125 - 0.015625 + 0.001953125 + (0.125**3 if far else 0.0)  # handbook box volumes
+    assert est.solid.volume == pytest.approx(volume, rel=1e-12)
+
+
+def test_hollow_body_with_its_outside_inverted(tmp_path: Path) -> None:
+    # outside wound inward, cavity right: the total is negative, but flipping it all would make
+    # the cavity solid (volume outer + cavity instead of outer - cavity)
+    outer = trimesh.creation.icosphere(subdivisions=3, radius=1.0)
+    cavity = trimesh.creation.icosphere(subdivisions=3, radius=0.5)
+    cavity.invert()
+    right = trimesh.util.concatenate([outer, cavity])
+    est = estimate(write_binary_stl(tmp_path / "shell.stl", trimesh.util.concatenate([outer.copy().invert(), cavity]).triangles))
+    assert rules(est) == ["mesh-inside-out"] and "1 of 2 bodies was" in est.findings[0].message
+    assert_matches_trimesh(est, f32_mesh(right))  # trimesh: outer - cavity
+
+
+def test_disc_in_a_torus_hole_is_a_body(tmp_path: Path) -> None:
+    torus = trimesh.creation.torus(major_radius=0.2, minor_radius=0.04, major_sections=64, minor_sections=32)
+    disc = trimesh.creation.cylinder(radius=0.1, height=0.06, sections=48)  # clear of the torus (inner radius 0.16)
+    right = trimesh.util.concatenate([torus, disc.copy()])
+    disc.invert()
+    est = estimate(write_binary_stl(tmp_path / "torus.stl", trimesh.util.concatenate([torus, disc]).triangles))
+    assert rules(est) == ["mesh-inside-out"] and "1 of 2 bodies was" in est.findings[0].message
+    assert_matches_trimesh(est, f32_mesh(right))  # trimesh: torus + disc, not torus - disc
+
+
+def test_nesting_falls_back_to_boxes_beyond_the_budget(tmp_path: Path, monkeypatch) -> None:
+    import linkcheck.geometry.mesh_repair as repair_module
+
+    monkeypatch.setattr(repair_module, "NESTING_BUDGET", 0)
+    tris, right = nested_boxes("outer")  # nested boxes: here the bounding boxes tell the truth
+    est = estimate(write_binary_stl(tmp_path / "nested.stl", tris))
+    assert rules(est) == ["mesh-inside-out"] and "judged by bounding boxes" in est.findings[0].message
+    assert est.findings[0].data["nesting"] == "bounding boxes"
+    assert_matches_trimesh(est, right, rtol=1e-9)
+
+
+@pytest.mark.parametrize("name", ["row", "cylinder", "torus_and_disc", "nested"])
+def test_right_meshes_never_pay_for_the_topology_pass(tmp_path: Path, monkeypatch, name: str) -> None:
+    import linkcheck.geometry.mesh_repair as repair_module
+
+    def forbidden(*_):
+        raise AssertionError("topology pass run on a mesh wound right")
+
+    monkeypatch.setattr(repair_module, "topology", forbidden)
+    if name == "row":  # equal cubes: every extreme plane holds several bodies' faces
+        mesh = cubes((0.125, -0.5, False), (0.125, 0.0, False), (0.125, 0.5, False))[1]
+    elif name == "cylinder":  # a fan of cap triangles in each end plane
+        mesh = trimesh.creation.cylinder(radius=0.1, height=0.3, sections=200)
+    elif name == "torus_and_disc":
+        mesh = trimesh.util.concatenate([trimesh.creation.torus(0.2, 0.04, major_sections=64, minor_sections=32),
+                                         trimesh.creation.cylinder(radius=0.1, height=0.06, sections=48)])
+    else:
+        mesh = nested_boxes()[1]
+    est = estimate(write_binary_stl(tmp_path / f"{name}.stl", mesh.triangles))
+    assert est.trusted and not est.findings
+    assert_matches_trimesh(est, f32_mesh(mesh))
+
+
+def test_winding_number_of_a_cube() -> None:
+    from linkcheck.geometry.polyhedron import winding_numbers
+
+    cube = trimesh.creation.box((1.0, 1.0, 1.0))
+    points = np.array([[0.0, 0.0, 0.0], [0.2, -0.3, 0.1], [2.0, 0.0, 0.0], [0.5, 0.0, 0.0]])
+    # solid angle of a closed surface: 4π from inside, 0 from outside (Gauss), 2π from a face's middle
+    assert np.allclose(winding_numbers(cube.triangles, points), [1.0, 1.0, 0.0, 0.5], atol=1e-12)
+    assert np.allclose(winding_numbers(cube.triangles[:, [0, 2, 1]], points), [-1.0, -1.0, 0.0, -0.5], atol=1e-12)
+    assert np.allclose(winding_numbers(cube.triangles, points, chunk=5), [1.0, 1.0, 0.0, 0.5], atol=1e-12)  # chunked
 
 
 def test_open_box_with_two_opposite_faces_missing(tmp_path: Path) -> None:

@@ -22,7 +22,7 @@ if TYPE_CHECKING:
 from linkcheck import reads
 
 #: Bump when the meaning of a cached payload changes.
-FORMAT_VERSION = 2  # 2: closed meshes with one of several bodies inside-out are re-oriented per body
+FORMAT_VERSION = 3  # 2: closed meshes with one of several bodies inside-out are re-oriented per body; 3: by exact nesting
 
 
 def default_directory(env: dict[str, str] | None = None) -> Path:

@@ -8,11 +8,11 @@ COLLADA: ``<unit meter>`` is applied (ROS viewers and Gazebo do; trimesh only re
 ``<up_axis>`` is ignored (rviz and Gazebo drop the up-axis rotation; loading is in mesh_io.py), so the estimate matches
 what those tools simulate and show. glTF is taken in metres with no axis conversion.
 
-Every mesh gets the exact integrals and the cheap closure test (polyhedron.py). Only a mesh
-that fails it, or whose integral is no possible solid (no volume, centroid outside the bounding
-box, inertia not positive or breaking the triangle inequality: a closed surface with one of
-several bodies inside-out), pays for the topology pass (mesh_repair.py), whose result the cache
-keeps. Sizes that look like the wrong units are judged in units.py.
+Every mesh gets the exact integrals and cheap tests (polyhedron.py): closure, a possible solid
+(volume, centroid in the box, inertia positive and within the triangle inequality), positive
+total volume, outward faces at the axis extremes, and no negative winding along a line near the
+centroid. Only a mesh that fails one pays for the topology pass (mesh_repair.py: per-body
+orientation by nesting depth), whose result the cache keeps. Sizes that look like the wrong units are judged in units.py.
 """
 
 from __future__ import annotations
@@ -200,7 +200,7 @@ def _with_uri(f: Finding, uri: str, path: Path) -> Finding:
 # --------------------------------------------------------------------------- computing a mesh
 
 
-def _extreme_points(cols: np.ndarray) -> np.ndarray:
+def _extreme_points(cols: np.ndarray, extremes: np.ndarray) -> np.ndarray:
     """Vertices extreme along 26 directions (axes, face and body diagonals, both ways) plus the one
     farthest from the reference point (the bounding-box centre).
 
@@ -208,10 +208,11 @@ def _extreme_points(cols: np.ndarray) -> np.ndarray:
     from its centre (both searched over every corner); the diagonal directions search the first
     corner of each triangle only, which nearly always includes every vertex. Its hull lies inside
     the true hull (about 0.85 of a sphere's radius), so a point outside it is only probably outside
-    the mesh: ``Solid.exact_points`` (every vertex, read again) confirms.
+    the mesh: ``Solid.exact_points`` (every vertex, read again) confirms. ``extremes``: the flat
+    corner indices of the smallest and largest x, y and z (``_compute_solid`` finds them once).
     """
     x, y, z = cols.reshape(3, -1)
-    picks = [np.stack((x[i], y[i], z[i])) for i in (x.argmin(), x.argmax(), y.argmin(), y.argmax(), z.argmin(), z.argmax())]
+    picks = [np.stack((x[i], y[i], z[i])) for i in extremes]
     picks.append(cols.reshape(3, -1)[:, int((x * x + y * y + z * z).argmax())])
     x0, y0, z0 = cols[0, 0], cols[1, 0], cols[2, 0]
     for combo in (x0 + y0, x0 - y0, y0 + z0, y0 - z0, x0 + z0, x0 - z0, x0 + y0 + z0, x0 + y0 - z0, x0 - y0 + z0, y0 + z0 - x0):
@@ -235,30 +236,40 @@ def _compute_solid(data: bytes, loader: str, path: Path, scale: np.ndarray, part
         raise MeshError("the file holds no triangles")
     cols = to_columns(raw)
     del raw
-    flat = cols.reshape(3, -1)
+    if np.prod(np.sign(scale)) < 0:  # mirroring flips orientation; re-wind to keep the outside out
+        second = cols[:, 1].copy()
+        cols[:, 1] = cols[:, 2]
+        cols[:, 2] = second
+    flat = cols.reshape(3, -1)  # a view: scaled and shifted in place
     for k in range(3):
         if scale[k] != 1.0:
             flat[k] *= scale[k]
-    lo, hi = flat.min(axis=1), flat.max(axis=1)
+    # corners of the smallest and largest x, y, z (a nan is taken as the smallest and largest)
+    extremes = np.array([f(flat[k]) for k in range(3) for f in (np.argmin, np.argmax)])
+    lo, hi = flat[(0, 1, 2), extremes[0::2]], flat[(0, 1, 2), extremes[1::2]]
     if not (np.isfinite(lo).all() and np.isfinite(hi).all()):
         bad = int((~np.isfinite(cols).all(axis=(0, 1))).sum())
         raise MeshError(f"{bad} of {n} triangles have non-finite coordinates (nan/inf)")
     origin = 0.5 * (lo + hi)
     for k in range(3):
-        flat[k] -= origin[k]
-    if np.prod(np.sign(scale)) < 0:
-        cols = cols[:, [0, 2, 1]]  # mirroring flips orientation; re-wind to keep the outside out
+        flat[k] -= origin[k]  # monotonic: the extreme corners stay extreme
     extent = hi - lo
     if np.count_nonzero(extent > 1e-12 * max(float(extent.max()), 1e-300)) < 3:
         raise MeshError(f"the mesh is flat (extents {format_vector(extent)} m): it encloses no volume")
     radius = 0.5 * float(np.linalg.norm(extent))
     it = integrate(cols, origin, radius)
     findings: list[Finding] = []
-    points = _extreme_points(cols) + origin
-    if it.closure <= CLOSURE_TOL and not encloses_no_volume(it, radius) and why_impossible(it, lo, hi) is None:
+    points = _extreme_points(cols, extremes) + origin
+    if it.closure > CLOSURE_TOL or encloses_no_volume(it, radius):
+        return repair(cols, origin, radius, points, n, lo, hi)  # open, or closed around nothing
+    # closed: a body inside-out among right ones shows as an integral no solid can have, a negative
+    # total, an outer body facing inward at the mesh's extremes, or an inner one along a probe line
+    from linkcheck.geometry.polyhedron import faces_out_at_extremes, winding_dips_below_zero
+
+    if (it.volume > 0 and why_impossible(it, lo, hi) is None and faces_out_at_extremes(cols, extremes)
+            and not winding_dips_below_zero(cols, it.com - origin, extent)):
         return closed_result(it, points, n, findings)
-    # open, or closed with an integral no solid can have (bodies inside-out among right ones)
-    return repair(cols, origin, radius, points, n, lo, hi)
+    return repair(cols, origin, radius, points, n, lo, hi, suspect=True)
 
 
 # --------------------------------------------------------------------------- cache payloads
