@@ -18,7 +18,7 @@ if TYPE_CHECKING:
 
 from linkcheck import __version__
 from linkcheck.errors import LinkcheckError
-from linkcheck.paths import MESH_SUFFIXES
+from linkcheck.paths import MESH_SUFFIXES, display_path
 from linkcheck.severity import FAIL_LEVELS, RANK
 
 
@@ -167,7 +167,7 @@ def _report(args: argparse.Namespace, results: list[Any], problems: list[str]) -
 
             print(f"linkcheck: caution: {CAUTION}", file=sys.stderr)  # machine output stays parseable
     shown = [r.unwritten() for r in results] if args.diff else results  # nothing written: report the file on disk
-    entries = [r.report_entry(_display(r.path)) for r in shown]
+    entries = [r.report_entry(display_path(r.path)) for r in shown]
     report = build_report(entries, changed=len(changed))
     fatal = any(r.fatal for r in results)
     for e in entries:
@@ -217,20 +217,12 @@ def _print_fixes(out: Any, results: list[Any], diff: bool, color: bool) -> None:
     for r in results:
         if r.changed:
             if diff:
-                print_diff(unified_diff(_display(r.path), r.document.data, r.new_data), out, color)
+                print_diff(unified_diff(display_path(r.path), r.document.data, r.new_data), out, color)
             else:
                 for line in r.fix_lines:
-                    out.write(f"fixed {_display(r.path)}: {line}\n")
+                    out.write(f"fixed {display_path(r.path)}: {line}\n")
             estimated = estimated or r.estimated
         for line in r.refusals:
             out.write(line + "\n")
     if estimated:
         out.write(f"\ncaution: {CAUTION}\n\n")
-
-
-def _display(path: Path) -> str:
-    """Paths as the user would type them: relative to the working folder when inside it."""
-    try:
-        return Path(os.path.abspath(path)).relative_to(os.getcwd()).as_posix()
-    except ValueError:
-        return str(path)

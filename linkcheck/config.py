@@ -17,7 +17,7 @@ from pathlib import Path
 from typing import Any
 
 from linkcheck.errors import ConfigError
-from linkcheck.paths import config_candidates
+from linkcheck.paths import config_candidates, display_path
 from linkcheck.severity import FAIL_ON, SEVERITIES
 from linkcheck.rules import RULES, suggest
 from linkcheck.settings import DEFAULT, LinkOverride, LinkSettings, Settings
@@ -74,7 +74,7 @@ class _Where:
         if self.path is None:
             return ConfigError(f"command line: {key}: {problem}")
         line = self._line(key.split(".")[0].split("[")[0])
-        where = _display(self.path) + (f":{line}" if line else "")
+        where = display_path(self.path) + (f":{line}" if line else "")
         section = f"[{self.header}] " if self.header else ""
         return ConfigError(f"{where}: {section}{key}: {problem}")
 
@@ -96,13 +96,6 @@ class _Where:
         return start + 1 if self.header else None
 
 
-def _display(path: Path) -> str:
-    try:
-        return path.resolve().relative_to(Path.cwd().resolve()).as_posix()
-    except ValueError:
-        return str(path)
-
-
 # --------------------------------------------------------------------------- reading files
 
 
@@ -112,13 +105,13 @@ def _read(path: Path) -> tuple[dict[str, Any], str]:
     try:
         text = path.read_bytes().decode("utf-8")
     except OSError as exc:
-        raise ConfigError(f"{_display(path)}: cannot read configuration: {exc.strerror or exc}") from None
+        raise ConfigError(f"{display_path(path)}: cannot read configuration: {exc.strerror or exc}") from None
     except UnicodeDecodeError:
-        raise ConfigError(f"{_display(path)}: configuration is not UTF-8 text") from None
+        raise ConfigError(f"{display_path(path)}: configuration is not UTF-8 text") from None
     try:
         return tomllib.loads(text), text
     except tomllib.TOMLDecodeError as exc:
-        raise ConfigError(f"{_display(path)}: invalid TOML: {exc}") from None
+        raise ConfigError(f"{display_path(path)}: invalid TOML: {exc}") from None
 
 
 def _section(path: Path, explicit: bool) -> tuple[dict[str, Any], _Where] | None:
@@ -129,7 +122,7 @@ def _section(path: Path, explicit: bool) -> tuple[dict[str, Any], _Where] | None
         table = tool.get("linkcheck") if isinstance(tool, dict) else None
         if table is None:
             if explicit:
-                raise ConfigError(f"{_display(path)}: no [tool.linkcheck] table")
+                raise ConfigError(f"{display_path(path)}: no [tool.linkcheck] table")
             return None
         if not isinstance(table, dict):
             raise _Where(path, text).error("tool.linkcheck", "expected a table")
@@ -357,16 +350,16 @@ def _check_order(settings: Settings, source: Path | None) -> None:
         a = getattr(settings, THRESHOLDS[small][0])
         b = getattr(settings, THRESHOLDS[large][0])
         if a > b:
-            where = f"{_display(source)}: " if source is not None else ""
+            where = f"{display_path(source)}: " if source is not None else ""
             raise ConfigError(f"{where}{small} ({a:g}) must not exceed {large} ({b:g})")
     if settings.density_min >= settings.density_max:
-        where = f"{_display(source)}: " if source is not None else ""
+        where = f"{display_path(source)}: " if source is not None else ""
         raise ConfigError(f"{where}density-range: min ({settings.density_min:g}) must be below max "
                           f"({settings.density_max:g})")
     rho = settings.default_density
     if rho is not None and not settings.density_min <= rho <= settings.density_max:
         # a fill with it would write blocks that density-implausible then reports
-        where = f"{_display(source)}: " if source is not None else ""
+        where = f"{display_path(source)}: " if source is not None else ""
         grams = rho < settings.density_min and rho * 1000 <= settings.density_max
         hint = f" (in kg/m³: {rho:g} g/cm³ is {rho * 1000:g} kg/m³)" if grams else ""
         raise ConfigError(f"{where}default-density / --density {rho:g} kg/m³ is outside density-range "

@@ -40,7 +40,7 @@ def units_verdict(link: Link, parts: list[tuple[Body, Solid]], options: list[lis
             return combine([(scaled_props(s.props, f) if id(b) in ids else s.props)
                             .transformed(b.pose.rotation, b.pose.translation) for b, s in parts])
 
-        spans = [span(s) for b, s in parts if id(b) in ids]
+        spans = [units.span(s.points) for b, s in parts if id(b) in ids]
         verdict = units.decide_scale(volume, mass, (settings.density_min, settings.density_max), inertia=tensor,
                                com=stated.com, geometry_at=geometry_at, tolerance=settings.units_tolerance,
                                extent=spans, extent_range=(settings.mesh_min_extent, settings.mesh_max_extent),
@@ -55,7 +55,7 @@ def units_verdict(link: Link, parts: list[tuple[Body, Solid]], options: list[lis
     as_is = geometry_at(1.0)
     several = len(parts) > 1
     notes = tuple(units_note(link, body, verdict, mass, as_is, stated.inertia, tensor_words, settings,
-                              span(solid) if extent_flagged else None, several)
+                              units.span(solid.points) if extent_flagged else None, several)
                   for body, solid in parts if id(body) in {id(b) for b in option})
     return notes, option, verdict.evidence == "density"
 
@@ -63,11 +63,6 @@ def units_verdict(link: Link, parts: list[tuple[Body, Solid]], options: list[lis
 def scaled_props(props: MassProperties, f: float) -> MassProperties:
     """A unit-density solid with its coordinates multiplied by ``f`` about its frame's origin."""
     return MassProperties(props.mass * f**3, np.asarray(props.com, dtype=float) * f, np.asarray(props.inertia, dtype=float) * f**5)
-
-
-def span(solid: Solid) -> float:
-    """The largest extent of a solid's points, m."""
-    return float((solid.points.max(axis=0) - solid.points.min(axis=0)).max())
 
 
 def tensor_evidence(tensor: np.ndarray, settings: Settings) -> tuple[np.ndarray | None, str]:

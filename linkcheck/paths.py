@@ -6,6 +6,7 @@ checking code is imported.
 
 from __future__ import annotations
 
+import os
 from collections.abc import Iterator
 from pathlib import Path
 
@@ -18,6 +19,15 @@ CONFIG_NAMES = ("linkcheck.toml", "pyproject.toml")
 PACKAGE_PATH_VARS = ("ROS_PACKAGE_PATH", "AMENT_PREFIX_PATH")
 #: Environment variables whose folders hold ``model://NAME`` models.
 MODEL_PATH_VARS = ("GZ_SIM_RESOURCE_PATH", "SDF_PATH", "IGN_GAZEBO_RESOURCE_PATH", "GAZEBO_MODEL_PATH")
+
+
+def display_path(path: Path) -> str:
+    """A path as the user would type it: relative to the working folder when inside it (not
+    resolved, so a symlinked copy keeps its own name)."""
+    try:
+        return Path(os.path.abspath(path)).relative_to(os.getcwd()).as_posix()
+    except ValueError:
+        return str(path)
 
 
 def expand_paths(paths: list[Path]) -> list[Path]:

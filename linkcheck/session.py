@@ -26,9 +26,9 @@ class StoredResult:
 
     def __init__(self, path: Path, stored: dict[str, Any]) -> None:
         self.path = path
-        self.entry: dict[str, Any] = stored["entry"]
-        self.fatal = bool(stored.get("fatal"))
-        self.fail_on: str = stored.get("fail_on", "warning")
+        self.entry: dict[str, Any] = stored["entry"]  # ResultCache.get checked every field
+        self.fatal: bool = stored["fatal"]
+        self.fail_on: str = stored["fail_on"]
 
     def unwritten(self) -> StoredResult:
         return self

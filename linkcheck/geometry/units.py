@@ -17,8 +17,13 @@ from linkcheck.settings import DEFAULT
 UNIT_FACTORS = (1e-3, 1e-2, 0.0254, 1e3)
 
 
+def span(points: np.ndarray) -> float:
+    """The largest extent of a point set along the axes, m."""
+    return float((points.max(axis=0) - points.min(axis=0)).max())
+
+
 def extent_finding(uri: str, points: np.ndarray, scale: tuple[float, ...], max_extent: float, min_extent: float) -> Finding | None:
-    extent = float((points.max(axis=0) - points.min(axis=0)).max())
+    extent = span(points)
     if min_extent <= extent <= max_extent:
         return None
     large = extent > max_extent
