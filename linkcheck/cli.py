@@ -80,9 +80,9 @@ def _cli_settings(args: argparse.Namespace) -> dict[str, Any]:
         rules = _rules(getattr(args, key))
         if not rules:
             continue
-        from linkcheck.rules import RULES
+        from linkcheck.rules import unknown_rules
 
-        unknown = [r for r in rules if r not in RULES]
+        unknown = unknown_rules(rules)
         if unknown:
             raise LinkcheckError(f"--{key}: unknown rule {', '.join(repr(u) for u in unknown)} (see the README's rule table)")
         cli[key] = rules
